@@ -1,0 +1,37 @@
+/**
+ * The one time source. Everything that needs "now" receives a Clock; nothing in the core reads
+ * the wall clock itself, so tests run on fake time.
+ */
+export interface Clock {
+  /** Milliseconds since the Unix epoch. */
+  now(): number;
+}
+
+/** The device clock. Only the app shell and the command-line entry create one. */
+export const systemClock: Clock = { now: () => Date.now() };
+
+/** A clock that stands still until moved: for tests and for `--at`. */
+export class FixedClock implements Clock {
+  constructor(private ms: number) {}
+  now(): number {
+    return this.ms;
+  }
+  set(ms: number): void {
+    this.ms = ms;
+  }
+  advance(ms: number): void {
+    this.ms += ms;
+  }
+}
+
+/** Milliseconds to an ISO instant in UTC. */
+export function toInstant(ms: number): string {
+  return new Date(ms).toISOString();
+}
+
+/** Parses an ISO instant (any offset) to milliseconds, or NaN. */
+export function toMs(iso: string): number {
+  return new Date(iso).getTime();
+}
+
+export const MINUTE_MS = 60_000;
