@@ -75,12 +75,10 @@ export function findRow(ws: Worksheet, rowId: string): Row | undefined {
   return ws.rows.find((r) => r.id === rowId);
 }
 
-/** Adds an empty row at a time; rows stay sorted. */
+/** Adds a row at a time (empty, or with cells); rows stay sorted. */
 export function addRow(ctx: Ctx, ws: Worksheet, time: string, offset: number, cells: Row['cells'] = {}): Change & { rowId: string } {
   const row: Row = { id: id(ctx), time, offset, cells: { ...cells } };
-  const entries: Omit<EditLogEntry, 'id' | 'at'>[] = [{ kind: 'row-add', rowId: row.id, new: time }];
-  for (const [key, cell] of Object.entries(cells)) entries.push({ kind: 'cell', rowId: row.id, key, old: null, new: cell });
-  return { ...commit(ctx, ws, { rows: sortRows([...ws.rows, row]) }, entries), rowId: row.id };
+  return { ...insertRow(ctx, ws, row, false), rowId: row.id };
 }
 
 /** Sets (or clears, with null) one cell. Throws if the row does not exist. */
@@ -129,10 +127,19 @@ export function deleteRow(ctx: Ctx, ws: Worksheet, rowId: string): Change {
   ]);
 }
 
-/** Restores a deleted row exactly (undo of deleteRow). */
-export function restoreRow(ctx: Ctx, ws: Worksheet, row: Row): Change {
-  if (findRow(ws, row.id)) throw new Error(`restoreRow: row "${row.id}" already exists`);
-  return commit(ctx, ws, { rows: sortRows([...ws.rows, row]) }, [{ kind: 'row-add', rowId: row.id, new: row.time, note: 'restored' }]);
+/**
+ * Inserts a row built elsewhere (undo of deleteRow, or a row whose id the caller already holds).
+ * A restored row gets one `row-add` entry noted "restored"; a new one also logs each of its cells.
+ */
+export function insertRow(ctx: Ctx, ws: Worksheet, row: Row, restored: boolean): Change {
+  if (findRow(ws, row.id)) throw new Error(`insertRow: row "${row.id}" already exists`);
+  const entries: Omit<EditLogEntry, 'id' | 'at'>[] = [
+    restored ? { kind: 'row-add', rowId: row.id, new: row.time, note: 'restored' } : { kind: 'row-add', rowId: row.id, new: row.time },
+  ];
+  if (!restored) {
+    for (const [key, cell] of Object.entries(row.cells)) entries.push({ kind: 'cell', rowId: row.id, key, old: null, new: cell });
+  }
+  return commit(ctx, ws, { rows: sortRows([...ws.rows, row]) }, entries);
 }
 
 /** The facts of a worksheet that the side panel edits. */
