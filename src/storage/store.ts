@@ -1,0 +1,780 @@
+/**
+ * The notebook store: a small typed facade over IndexedDB (through idb).
+ *
+ * What "saved" means: a write method resolves `{ ok: true }` only after the transaction's
+ * `complete` event (`tx.done`). Expected failures (another tab changed the worksheet, storage
+ * full, the connection was closed for a newer version) come back as results, never as thrown
+ * errors; the previously stored version stays intact because each write is one transaction.
+ *
+ * Multi-tab: `commit` reads the stored `rev` and writes in ONE readwrite transaction, which
+ * IndexedDB serialises across tabs, so a stale edit is reported as a conflict instead of
+ * overwriting (reference §2). Other tabs learn of changes through BroadcastChannel notices
+ * (a hint to re-read, not a log).
+ *
+ * Transaction lifetime: between opening a transaction and `tx.done`, nothing but IndexedDB
+ * requests is awaited (reference §1.7). Validation and encoding happen before the transaction.
+ *
+ * No DOM: IndexedDB, BroadcastChannel and navigator.storage are reached through guarded globals
+ * or injected, so Node tests (fake-indexeddb) and the browser share this module. In Node, load
+ * `fake-indexeddb/auto` first: idb checks the IDB* classes on globalThis.
+ */
+import { wrap } from 'idb';
+import type { IDBPDatabase, IDBPTransaction } from 'idb';
+import { z } from 'zod';
+import { Worksheet } from '../sheet/model.js';
+import type { Change } from '../sheet/worksheet.js';
+import {
+  DB_VERSION,
+  DEFAULT_DB_NAME,
+  MIGRATIONS,
+  StoredLogEntry,
+  StoredWorksheet,
+  WorksheetSummary,
+  formatIssues,
+  summaryOf,
+  toStoredWorksheet,
+} from './schema.js';
+import type { Migration, StoreName, TidemarkDB } from './schema.js';
+
+export { DB_VERSION, DEFAULT_DB_NAME, WorksheetSummary };
+
+// ---------------------------------------------------------------------------------------------
+// Results and errors
+
+/** A write that did not happen; nothing of it was stored. */
+export type WriteFailure =
+  /** The device (or browser quota) is out of space. Export a backup, free space, retry. */
+  | { ok: false; reason: 'quota'; message: string }
+  /** This connection is closed (a newer version opened in another tab, or the browser closed it). */
+  | { ok: false; reason: 'closed'; message: string }
+  /** The data given is not a valid worksheet or change: a programming error, with the problems. */
+  | { ok: false; reason: 'invalid'; message: string; problems: string[] }
+  /** Any other storage failure (I/O error, aborted transaction, unreadable stored record). */
+  | { ok: false; reason: 'failed'; message: string };
+
+export type CommitResult =
+  | { ok: true; worksheet: Worksheet }
+  /** Another tab stored rev `current.rev` since this edit started: re-apply on top of `current`. */
+  | { ok: false; reason: 'conflict'; message: string; current: Worksheet }
+  /** The worksheet is not in the store (removed in another tab). */
+  | { ok: false; reason: 'missing'; message: string }
+  | WriteFailure;
+
+export type CreateResult =
+  | { ok: true; worksheet: Worksheet }
+  | { ok: false; reason: 'exists'; message: string }
+  | WriteFailure;
+
+export type RemoveResult = { ok: true; removed: boolean } | WriteFailure;
+
+export type PutAllResult =
+  /** `worksheets` as written (a replaced worksheet gets a rev above the one it replaced). */
+  | { ok: true; worksheets: Worksheet[]; added: string[]; replaced: string[] }
+  /** Some ids exist and were not allowed to be replaced; nothing was written. */
+  | { ok: false; reason: 'exists'; message: string; ids: string[] }
+  | WriteFailure;
+
+export type MetaResult = { ok: true } | WriteFailure;
+
+/** A worksheet the store holds but cannot read (corrupt or from an unknown shape). */
+export interface Unreadable {
+  id: string;
+  message: string;
+}
+
+/** The notebook list, newest change first, without rows. */
+export interface NotebookListing {
+  summaries: WorksheetSummary[];
+  unreadable: Unreadable[];
+}
+
+/** Notice sent to other tabs after a write has committed. */
+export const ChangeNotice = z.discriminatedUnion('type', [
+  z.strictObject({ type: z.literal('changed'), id: z.string(), rev: z.number().int() }),
+  z.strictObject({ type: z.literal('removed'), id: z.string() }),
+]);
+export type ChangeNotice = z.infer<typeof ChangeNotice>;
+
+export type StoreErrorKind =
+  /** No IndexedDB in this environment. */
+  | 'unsupported'
+  /** A schema step failed; the upgrade was rolled back and the old data is intact. */
+  | 'upgrade-failed'
+  /** The database was made by a newer version of the app (close this tab or update). */
+  | 'newer-version'
+  /** The connection is closed. */
+  | 'closed'
+  /** A stored record does not match the expected shape. */
+  | 'corrupt'
+  | 'failed';
+
+/** Thrown by `openStore` and by reads (`get`, `getAll`, `list`, `getMeta`). */
+export class StoreError extends Error {
+  override readonly name = 'StoreError';
+  constructor(
+    readonly kind: StoreErrorKind,
+    message: string,
+    /** For `corrupt`: one line per problem, `path: message`. */
+    readonly problems: readonly string[] = [],
+  ) {
+    super(message);
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Options and the Store interface
+
+export interface VersionInfo {
+  /** The version this connection (or the database) has. */
+  currentVersion: number;
+  /** The version being asked for; null when the database is being deleted. */
+  requestedVersion: number | null;
+}
+
+export interface OpenStoreOptions {
+  /** Database name; also the BroadcastChannel name. Default `tidemark`. */
+  name?: string;
+  /**
+   * This tab wants to upgrade but another tab keeps an older version open. The open waits until
+   * that tab closes: tell the user to close or reload the other tabs.
+   */
+  onBlocked?: (info: VersionInfo) => void;
+  /**
+   * Another tab opens a newer version (or deletes the database). The store closes this connection
+   * right after this callback (writes already started still complete); every later call returns
+   * `closed`. Tell the user to reload.
+   */
+  onVersionChange?: (info: VersionInfo) => void;
+  /** The browser closed the connection abnormally (storage cleared, I/O error). */
+  onClosed?: () => void;
+  /** Default: globalThis.indexedDB. */
+  idbFactory?: IDBFactory;
+  /** Send and receive change notices between tabs (default: when BroadcastChannel exists). */
+  broadcast?: boolean;
+  /** For tests only: the schema steps (default MIGRATIONS). */
+  migrations?: readonly Migration[];
+}
+
+export interface PutAllOptions {
+  /**
+   * Which existing worksheets may be overwritten: `false` none (any existing id fails the whole
+   * call, nothing written), `true` all, or the list of ids the user chose to replace.
+   */
+  replace: boolean | readonly string[];
+}
+
+export interface Store {
+  readonly name: string;
+  /** Database version of this connection. */
+  readonly version: number;
+  /** False once closed (by `close`, a newer version in another tab, or the browser). */
+  isOpen(): boolean;
+  /** Every worksheet's summary, newest change first, and any record that cannot be read. */
+  list(): Promise<NotebookListing>;
+  /** The stored worksheet with its edit log, validated; undefined if absent. Throws StoreError('corrupt'). */
+  get(id: string): Promise<Worksheet | undefined>;
+  /** Every worksheet with its log, from one consistent snapshot (for a full backup). */
+  getAll(): Promise<{ worksheets: Worksheet[]; unreadable: Unreadable[] }>;
+  /** Stores a new worksheet (with any log it already has). Fails with `exists` if the id is taken. */
+  create(ws: Worksheet): Promise<CreateResult>;
+  /**
+   * Stores the result of a command on a worksheet whose stored rev was `expectedRev`: the new
+   * version and the change's log entries, in one transaction.
+   */
+  commit(change: Change, expectedRev: number): Promise<CommitResult>;
+  /** Deletes a worksheet, its summary and its log. */
+  remove(id: string): Promise<RemoveResult>;
+  /** Bulk write for imports, one transaction with durability 'strict'. */
+  putAll(worksheets: readonly Worksheet[], options: PutAllOptions): Promise<PutAllResult>;
+  getMeta(key: string): Promise<unknown>;
+  setMeta(key: string, value: unknown): Promise<MetaResult>;
+  /** Notices from other tabs; returns an unsubscribe function. */
+  onExternalChange(callback: (notice: ChangeNotice) => void): () => void;
+  /** Closes the connection and the channel. Idempotent. */
+  close(): void;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Opening
+
+type DB = IDBPDatabase<TidemarkDB>;
+
+function errorName(err: unknown): string {
+  if (typeof err === 'object' && err !== null && 'name' in err) return String((err as { name: unknown }).name);
+  return '';
+}
+
+function errorMessage(err: unknown): string {
+  if (typeof err === 'object' && err !== null && 'message' in err) return String((err as { message: unknown }).message);
+  return String(err);
+}
+
+/**
+ * Opens (creating or upgrading) the notebook database. Rejects with StoreError:
+ * `unsupported`, `upgrade-failed` (old data intact), `newer-version`, or `failed`.
+ * While another tab holds an older version open, the promise waits and `onBlocked` is called.
+ */
+export async function openStore(options: OpenStoreOptions = {}): Promise<Store> {
+  const name = options.name ?? DEFAULT_DB_NAME;
+  const factory = options.idbFactory ?? (globalThis as { indexedDB?: IDBFactory }).indexedDB;
+  if (!factory) throw new StoreError('unsupported', 'This browser has no IndexedDB: worksheets cannot be stored on this device.');
+  const migrations = options.migrations ?? MIGRATIONS;
+  const version = migrations[migrations.length - 1]?.version ?? DB_VERSION;
+
+  let upgradeError: unknown;
+  let store: NotebookStore | undefined;
+  let request: IDBOpenDBRequest;
+  try {
+    request = factory.open(name, version);
+  } catch (err) {
+    throw new StoreError('failed', `Could not open the notebook database: ${errorMessage(err)}`);
+  }
+  const opening = wrap(request) as Promise<IDBPDatabase<unknown>>;
+
+  request.addEventListener('upgradeneeded', (event) => {
+    const db = wrap(request.result);
+    const tx = wrap(request.transaction!) as unknown as IDBPTransaction<unknown, string[], 'versionchange'>;
+    const steps = migrations.filter((m) => m.version > event.oldVersion);
+    // idb does not wait for an async upgrade: run the steps ourselves and abort on failure, so a
+    // half-done upgrade never commits (reference §1.7, idb#281).
+    void (async () => {
+      for (const step of steps) await step.run(db, tx);
+    })().catch((err: unknown) => {
+      upgradeError ??= err;
+      try {
+        tx.abort();
+      } catch {
+        // Already finished: nothing more to undo.
+      }
+    });
+  });
+  request.addEventListener('blocked', (event) => {
+    options.onBlocked?.({ currentVersion: event.oldVersion, requestedVersion: event.newVersion });
+  });
+
+  let raw: IDBPDatabase<unknown>;
+  try {
+    raw = await opening;
+  } catch (err) {
+    if (upgradeError !== undefined) {
+      throw new StoreError(
+        'upgrade-failed',
+        `The notebook database could not be upgraded to version ${version}; it was left as it was. (${errorMessage(upgradeError)})`,
+      );
+    }
+    if (errorName(err) === 'VersionError') {
+      throw new StoreError('newer-version', 'The notebook was opened by a newer version of Tidemark. Reload this page to use it.');
+    }
+    throw new StoreError('failed', `Could not open the notebook database: ${errorName(err) || 'error'} ${errorMessage(err)}`.trim());
+  }
+  const db = raw as unknown as DB;
+  store = new NotebookStore(name, db, options.broadcast ?? true);
+  const opened = store;
+  db.addEventListener('versionchange', (event) => {
+    options.onVersionChange?.({ currentVersion: event.oldVersion, requestedVersion: event.newVersion });
+    opened.close();
+  });
+  db.addEventListener('close', () => {
+    opened.markClosed();
+    options.onClosed?.();
+  });
+  return store;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Implementation
+
+const CLOSED_MESSAGE = 'The notebook database is closed in this tab (a newer version was opened elsewhere, or the browser closed it). Reload the page; your last saved change is kept.';
+
+function closedFailure(): WriteFailure {
+  return { ok: false, reason: 'closed', message: CLOSED_MESSAGE };
+}
+
+function failure(err: unknown, closed: boolean): WriteFailure {
+  const name = errorName(err);
+  if (name === 'QuotaExceededError') {
+    return {
+      ok: false,
+      reason: 'quota',
+      message: 'Device storage is full: this change was not saved. Export a backup, free some space, then try again.',
+    };
+  }
+  if (closed || name === 'InvalidStateError') return closedFailure();
+  return { ok: false, reason: 'failed', message: `The change was not saved (${name || 'error'}: ${errorMessage(err)}).` };
+}
+
+function invalid(message: string, problems: string[]): WriteFailure {
+  return { ok: false, reason: 'invalid', message, problems };
+}
+
+/** Checks a change before any transaction is opened. Returns problems, or [] when fine. */
+function checkChange(change: Change, expectedRev: number): string[] {
+  const parsed = Worksheet.safeParse(change.worksheet);
+  if (!parsed.success) return formatIssues(parsed.error.issues, ['worksheet']);
+  const ws = change.worksheet;
+  if (!Number.isInteger(expectedRev) || expectedRev < 0) return [`expectedRev: ${expectedRev} is not a revision`];
+  if (ws.rev <= expectedRev) return [`worksheet.rev: ${ws.rev} must be above the revision the edit started from (${expectedRev})`];
+  const tail = ws.log.slice(ws.log.length - change.entries.length);
+  if (change.entries.length > ws.log.length || tail.some((e, i) => e.id !== change.entries[i]!.id)) {
+    return ['entries: the change\'s entries must be the last entries of worksheet.log'];
+  }
+  return [];
+}
+
+function logRange(id: string): IDBKeyRange {
+  return IDBKeyRange.bound([id, 0], [id, Infinity]);
+}
+
+type ReadTx = IDBPTransaction<TidemarkDB, StoreName[], IDBTransactionMode>;
+
+/** Rebuilds and validates a worksheet from its record and log entries. */
+function assemble(id: string, record: unknown, entries: readonly unknown[]): Worksheet {
+  const parsed = StoredWorksheet.safeParse(record);
+  if (!parsed.success) {
+    throw new StoreError('corrupt', `Worksheet "${id}" is stored in a shape this app cannot read.`, formatIssues(parsed.error.issues));
+  }
+  const { logCount, ...rest } = parsed.data;
+  const log: Worksheet['log'] = [];
+  const problems: string[] = [];
+  entries.forEach((raw, i) => {
+    const e = StoredLogEntry.safeParse(raw);
+    if (!e.success) problems.push(...formatIssues(e.error.issues, ['log', i]));
+    else if (e.data.seq !== i || e.data.worksheetId !== id) problems.push(`log[${i}]: out of sequence (seq ${e.data.seq})`);
+    else log.push(e.data.entry);
+  });
+  if (entries.length !== logCount) problems.push(`log: ${entries.length} entries stored, ${logCount} expected`);
+  if (problems.length > 0) {
+    throw new StoreError('corrupt', `The edit log of worksheet "${id}" is damaged.`, problems.slice(0, 50));
+  }
+  return { ...rest, log };
+}
+
+async function readIn(tx: ReadTx, id: string): Promise<Worksheet | undefined> {
+  const [record, entries] = await Promise.all([
+    tx.objectStore('worksheets').get(id),
+    tx.objectStore('log').index('by-worksheet').getAll(id),
+  ]);
+  if (record === undefined) return undefined;
+  return assemble(id, record, entries);
+}
+
+/** Writes (put) a worksheet's record, summary and all of its log entries. Returns the requests. */
+function writeWhole(tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>, ws: Worksheet): Promise<unknown>[] {
+  const log = tx.objectStore('log');
+  return [
+    tx.objectStore('worksheets').put(toStoredWorksheet(ws)),
+    tx.objectStore('summaries').put(summaryOf(ws)),
+    ...ws.log.map((entry, seq) => log.put({ worksheetId: ws.id, seq, entry })),
+  ];
+}
+
+function openChannel(name: string, enabled: boolean): BroadcastChannel | undefined {
+  const Ctor = (globalThis as { BroadcastChannel?: typeof BroadcastChannel }).BroadcastChannel;
+  if (!enabled || typeof Ctor !== 'function') return undefined;
+  try {
+    const channel = new Ctor(name);
+    // Node: do not keep the process (CLI, tests) alive for the channel.
+    (channel as unknown as { unref?: () => void }).unref?.();
+    return channel;
+  } catch {
+    return undefined;
+  }
+}
+
+class NotebookStore implements Store {
+  readonly version: number;
+  private closed = false;
+  private readonly channel: BroadcastChannel | undefined;
+  private readonly listeners = new Set<(notice: ChangeNotice) => void>();
+
+  constructor(
+    readonly name: string,
+    private readonly db: DB,
+    broadcast: boolean,
+  ) {
+    this.version = db.version;
+    this.channel = openChannel(name, broadcast);
+    this.channel?.addEventListener('message', (event: MessageEvent<unknown>) => {
+      const notice = ChangeNotice.safeParse(event.data);
+      if (!notice.success) return;
+      for (const listener of this.listeners) listener(notice.data);
+    });
+  }
+
+  isOpen(): boolean {
+    return !this.closed;
+  }
+
+  markClosed(): void {
+    this.closed = true;
+    this.channel?.close();
+  }
+
+  close(): void {
+    if (this.closed) return;
+    this.markClosed();
+    this.db.close();
+  }
+
+  onExternalChange(callback: (notice: ChangeNotice) => void): () => void {
+    this.listeners.add(callback);
+    return () => {
+      this.listeners.delete(callback);
+    };
+  }
+
+  private notify(notice: ChangeNotice): void {
+    if (this.closed) return;
+    try {
+      this.channel?.postMessage(notice);
+    } catch {
+      // A notice is only a hint to re-read; losing one is harmless.
+    }
+  }
+
+  private assertOpen(): void {
+    if (this.closed) throw new StoreError('closed', CLOSED_MESSAGE);
+  }
+
+  private readTx(stores: StoreName[]): ReadTx {
+    this.assertOpen();
+    try {
+      return this.db.transaction(stores, 'readonly') as ReadTx;
+    } catch (err) {
+      throw new StoreError(this.closed || errorName(err) === 'InvalidStateError' ? 'closed' : 'failed', `Could not read the notebook: ${errorMessage(err)}`);
+    }
+  }
+
+  private writeTx(stores: StoreName[], durability?: 'strict'): IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'> {
+    return durability
+      ? this.db.transaction(stores, 'readwrite', { durability })
+      : this.db.transaction(stores, 'readwrite');
+  }
+
+  async list(): Promise<NotebookListing> {
+    const tx = this.readTx(['summaries', 'worksheets']);
+    const [raw, ids] = await Promise.all([
+      tx.objectStore('summaries').index('by-updated').getAll(),
+      tx.objectStore('worksheets').getAllKeys(),
+      tx.done,
+    ]);
+    const summaries: WorksheetSummary[] = [];
+    const unreadable: Unreadable[] = [];
+    const seen = new Set<string>();
+    for (const value of raw.reverse()) {
+      const parsed = WorksheetSummary.safeParse(value);
+      const id = typeof (value as { id?: unknown }).id === 'string' ? (value as { id: string }).id : '';
+      seen.add(id);
+      if (parsed.success) summaries.push(parsed.data);
+      else unreadable.push({ id, message: `Its summary cannot be read: ${formatIssues(parsed.error.issues).join('; ')}` });
+    }
+    for (const id of ids) {
+      if (!seen.has(id)) unreadable.push({ id, message: 'The worksheet record cannot be read (no summary could be made of it).' });
+    }
+    return { summaries, unreadable };
+  }
+
+  async get(id: string): Promise<Worksheet | undefined> {
+    const tx = this.readTx(['worksheets', 'log']);
+    const [ws] = await Promise.all([readIn(tx, id), tx.done]);
+    return ws;
+  }
+
+  async getAll(): Promise<{ worksheets: Worksheet[]; unreadable: Unreadable[] }> {
+    const tx = this.readTx(['worksheets', 'log']);
+    const [records, entries] = await Promise.all([
+      tx.objectStore('worksheets').getAll(),
+      tx.objectStore('log').getAll(),
+      tx.done,
+    ]);
+    const byWorksheet = new Map<string, unknown[]>();
+    for (const e of entries) {
+      const list = byWorksheet.get(e.worksheetId) ?? [];
+      list.push(e);
+      byWorksheet.set(e.worksheetId, list);
+    }
+    const worksheets: Worksheet[] = [];
+    const unreadable: Unreadable[] = [];
+    for (const record of records) {
+      const id = String((record as { id?: unknown }).id);
+      try {
+        worksheets.push(assemble(id, record, byWorksheet.get(id) ?? []));
+      } catch (err) {
+        unreadable.push({ id, message: err instanceof StoreError ? [err.message, ...err.problems].join(' ') : errorMessage(err) });
+      }
+    }
+    return { worksheets, unreadable };
+  }
+
+  async create(ws: Worksheet): Promise<CreateResult> {
+    if (this.closed) return closedFailure();
+    const parsed = Worksheet.safeParse(ws);
+    if (!parsed.success) return invalid('This is not a valid worksheet.', formatIssues(parsed.error.issues));
+    let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
+    try {
+      tx = this.writeTx(['worksheets', 'summaries', 'log']);
+    } catch (err) {
+      return failure(err, this.closed);
+    }
+    const done = tx.done;
+    done.catch(() => undefined);
+    try {
+      const existing = await tx.objectStore('worksheets').getKey(ws.id);
+      if (existing !== undefined) {
+        await done;
+        return { ok: false, reason: 'exists', message: `A worksheet with id "${ws.id}" already exists.` };
+      }
+      await Promise.all([...writeWhole(tx, ws), done]);
+    } catch (err) {
+      return this.abortWith(tx, err);
+    }
+    this.notify({ type: 'changed', id: ws.id, rev: ws.rev });
+    return { ok: true, worksheet: ws };
+  }
+
+  async commit(change: Change, expectedRev: number): Promise<CommitResult> {
+    if (this.closed) return closedFailure();
+    const problems = checkChange(change, expectedRev);
+    if (problems.length > 0) return invalid('The change is not valid and was not saved.', problems);
+    const ws = change.worksheet;
+    const record = toStoredWorksheet(ws);
+    const summary = summaryOf(ws);
+    const firstSeq = ws.log.length - change.entries.length;
+
+    let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
+    try {
+      tx = this.writeTx(['worksheets', 'summaries', 'log']);
+    } catch (err) {
+      return failure(err, this.closed);
+    }
+    const done = tx.done;
+    done.catch(() => undefined);
+    try {
+      const stored = await tx.objectStore('worksheets').get(ws.id);
+      if (stored === undefined) {
+        await done;
+        return { ok: false, reason: 'missing', message: `Worksheet "${ws.label}" is no longer in this notebook (removed in another tab?).` };
+      }
+      const storedRev = (stored as { rev?: unknown }).rev;
+      if (storedRev !== expectedRev) {
+        const current = await readIn(tx, ws.id);
+        await done;
+        if (!current) return { ok: false, reason: 'missing', message: `Worksheet "${ws.label}" is no longer in this notebook.` };
+        return {
+          ok: false,
+          reason: 'conflict',
+          message: `Worksheet "${current.label}" was changed in another tab or window (version ${current.rev}, this edit started from ${expectedRev}).`,
+          current,
+        };
+      }
+      const storedCount = (stored as { logCount?: unknown }).logCount;
+      if (storedCount !== firstSeq) {
+        tx.abort();
+        await done.catch(() => undefined);
+        return invalid('The change does not continue the stored edit log.', [
+          `entries: the stored log has ${String(storedCount)} entries, the change starts at entry ${firstSeq}`,
+        ]);
+      }
+      const log = tx.objectStore('log');
+      await Promise.all([
+        tx.objectStore('worksheets').put(record),
+        tx.objectStore('summaries').put(summary),
+        ...change.entries.map((entry, i) => log.add({ worksheetId: ws.id, seq: firstSeq + i, entry })),
+        done,
+      ]);
+    } catch (err) {
+      if (err instanceof StoreError) {
+        // The stored version could not be read to show the conflict.
+        this.abortQuietly(tx);
+        return { ok: false, reason: 'failed', message: [err.message, ...err.problems].join(' ') };
+      }
+      return this.abortWith(tx, err);
+    }
+    this.notify({ type: 'changed', id: ws.id, rev: ws.rev });
+    return { ok: true, worksheet: ws };
+  }
+
+  async remove(id: string): Promise<RemoveResult> {
+    if (this.closed) return closedFailure();
+    let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
+    try {
+      tx = this.writeTx(['worksheets', 'summaries', 'log']);
+    } catch (err) {
+      return failure(err, this.closed);
+    }
+    const done = tx.done;
+    done.catch(() => undefined);
+    let removed: boolean;
+    try {
+      removed = (await tx.objectStore('worksheets').getKey(id)) !== undefined;
+      await Promise.all([
+        tx.objectStore('worksheets').delete(id),
+        tx.objectStore('summaries').delete(id),
+        tx.objectStore('log').delete(logRange(id)),
+        done,
+      ]);
+    } catch (err) {
+      return this.abortWith(tx, err);
+    }
+    if (removed) this.notify({ type: 'removed', id });
+    return { ok: true, removed };
+  }
+
+  async putAll(worksheets: readonly Worksheet[], options: PutAllOptions): Promise<PutAllResult> {
+    if (this.closed) return closedFailure();
+    const problems: string[] = [];
+    const ids = new Set<string>();
+    worksheets.forEach((ws, i) => {
+      const parsed = Worksheet.safeParse(ws);
+      if (!parsed.success) problems.push(...formatIssues(parsed.error.issues, ['worksheets', i]));
+      else if (ids.has(ws.id)) problems.push(`worksheets[${i}].id: "${ws.id}" appears twice`);
+      ids.add(ws.id);
+    });
+    if (problems.length > 0) return invalid('The worksheets are not valid; nothing was written.', problems.slice(0, 50));
+    const mayReplace = (id: string): boolean =>
+      options.replace === true || (Array.isArray(options.replace) && options.replace.includes(id));
+
+    let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
+    try {
+      tx = this.writeTx(['worksheets', 'summaries', 'log'], 'strict');
+    } catch (err) {
+      return failure(err, this.closed);
+    }
+    const done = tx.done;
+    done.catch(() => undefined);
+    const written: Worksheet[] = [];
+    const added: string[] = [];
+    const replaced: string[] = [];
+    try {
+      const store = tx.objectStore('worksheets');
+      const existing = await Promise.all(worksheets.map((ws) => store.get(ws.id)));
+      const refused = worksheets.filter((ws, i) => existing[i] !== undefined && !mayReplace(ws.id)).map((ws) => ws.id);
+      if (refused.length > 0) {
+        await done;
+        return {
+          ok: false,
+          reason: 'exists',
+          message: `${refused.length} worksheet(s) already exist and were not chosen for replacement; nothing was imported.`,
+          ids: refused,
+        };
+      }
+      const requests: Promise<unknown>[] = [];
+      worksheets.forEach((ws, i) => {
+        const old = existing[i];
+        if (old === undefined) {
+          added.push(ws.id);
+          written.push(ws);
+        } else {
+          // A replaced worksheet gets a rev above the stored one, so an edit still open in another
+          // tab on the old version is reported as a conflict instead of landing on the new data.
+          const oldRev = typeof old.rev === 'number' ? old.rev : 0;
+          const next = { ...ws, rev: Math.max(oldRev, ws.rev) + 1 };
+          replaced.push(ws.id);
+          written.push(next);
+          requests.push(tx.objectStore('log').delete(logRange(ws.id)));
+        }
+      });
+      for (const ws of written) requests.push(...writeWhole(tx, ws));
+      await Promise.all([...requests, done]);
+    } catch (err) {
+      return this.abortWith(tx, err);
+    }
+    for (const ws of written) this.notify({ type: 'changed', id: ws.id, rev: ws.rev });
+    return { ok: true, worksheets: written, added, replaced };
+  }
+
+  async getMeta(key: string): Promise<unknown> {
+    const tx = this.readTx(['meta']);
+    const [value] = await Promise.all([tx.objectStore('meta').get(key), tx.done]);
+    return value;
+  }
+
+  async setMeta(key: string, value: unknown): Promise<MetaResult> {
+    if (this.closed) return closedFailure();
+    let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
+    try {
+      tx = this.writeTx(['meta']);
+    } catch (err) {
+      return failure(err, this.closed);
+    }
+    const done = tx.done;
+    done.catch(() => undefined);
+    try {
+      await Promise.all([tx.objectStore('meta').put(value, key), done]);
+    } catch (err) {
+      return this.abortWith(tx, err);
+    }
+    return { ok: true };
+  }
+
+  private abortQuietly(tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>): void {
+    try {
+      tx.abort();
+    } catch {
+      // Already committed or aborted.
+    }
+  }
+
+  /** Makes sure nothing of a failed write commits, then reports the first cause. */
+  private async abortWith(tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>, err: unknown): Promise<WriteFailure> {
+    this.abortQuietly(tx);
+    await tx.done.catch(() => undefined);
+    return failure(err, this.closed);
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Persistence (navigator.storage), guarded
+
+/** The subset of StorageManager used here (injectable for tests). */
+export interface StorageManagerLike {
+  persist?: () => Promise<boolean>;
+  persisted?: () => Promise<boolean>;
+  estimate?: () => Promise<{ usage?: number; quota?: number }>;
+}
+
+export type PersistenceState = 'persisted' | 'best-effort' | 'unsupported';
+
+export interface PersistenceInfo {
+  state: PersistenceState;
+  /** Bytes used and available to this origin, when the browser says (approximate). */
+  usage?: number;
+  quota?: number;
+}
+
+function defaultStorageManager(): StorageManagerLike | undefined {
+  return (globalThis as { navigator?: { storage?: StorageManagerLike } }).navigator?.storage;
+}
+
+/**
+ * Asks the browser to keep this origin's data under storage pressure. Ask after the first real
+ * save, ideally in a user gesture; browsers may refuse silently (reference §1.4).
+ */
+export async function requestPersistence(storage: StorageManagerLike | undefined = defaultStorageManager()): Promise<PersistenceState> {
+  if (!storage || typeof storage.persist !== 'function') return 'unsupported';
+  try {
+    return (await storage.persist()) ? 'persisted' : 'best-effort';
+  } catch {
+    return 'unsupported';
+  }
+}
+
+export async function persistenceState(storage: StorageManagerLike | undefined = defaultStorageManager()): Promise<PersistenceInfo> {
+  if (!storage || typeof storage.persisted !== 'function') return { state: 'unsupported' };
+  const info: PersistenceInfo = { state: 'unsupported' };
+  try {
+    info.state = (await storage.persisted()) ? 'persisted' : 'best-effort';
+  } catch {
+    return { state: 'unsupported' };
+  }
+  if (typeof storage.estimate === 'function') {
+    try {
+      const estimate = await storage.estimate();
+      if (typeof estimate.usage === 'number') info.usage = estimate.usage;
+      if (typeof estimate.quota === 'number') info.quota = estimate.quota;
+    } catch {
+      // The estimate is optional.
+    }
+  }
+  return info;
+}
