@@ -117,13 +117,18 @@ export const MIGRATIONS: readonly Migration[] = [
         const summary = summaryFromV1Record(cursor.value);
         // An unreadable v1 record gets no summary; the list reports it as unreadable (it is not
         // deleted, and it does not block the upgrade of everything else).
-        if (summary) writes.push(summaries.put(summary));
+        if (summary) writes.push(issued(summaries.put(summary)));
         cursor = await cursor.continue();
       }
       await Promise.all(writes);
     },
   },
 ];
+
+function issued<T>(request: Promise<T>): Promise<T> {
+  request.catch(() => undefined);
+  return request;
+}
 
 /** Reads the summary fields of a version-1 worksheet record (the v1 shape is the current one). */
 function summaryFromV1Record(value: unknown): WorksheetSummary | undefined {

@@ -234,6 +234,8 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
   request.addEventListener('upgradeneeded', (event) => {
     const db = wrap(request.result);
     const tx = wrap(request.transaction!) as unknown as IDBPTransaction<unknown, string[], 'versionchange'>;
+    // idb makes a `done` promise for every transaction; an aborted upgrade must not leave it unhandled.
+    tx.done.catch(() => undefined);
     const steps = migrations.filter((m) => m.version > event.oldVersion);
     // idb does not wait for an async upgrade: run the steps ourselves and abort on failure, so a
     // half-done upgrade never commits (reference §1.7, idb#281).
@@ -321,6 +323,16 @@ function checkChange(change: Change, expectedRev: number): string[] {
   return [];
 }
 
+/**
+ * Marks a request's promise as handled the moment it is issued: if a later request in the same
+ * synchronous batch throws, the transaction aborts and these reject before anyone awaits them.
+ * (The caller still awaits them through Promise.all, which sees the rejection.)
+ */
+function issued<T>(request: Promise<T>): Promise<T> {
+  request.catch(() => undefined);
+  return request;
+}
+
 function logRange(id: string): IDBKeyRange {
   return IDBKeyRange.bound([id, 0], [id, Infinity]);
 }
@@ -362,9 +374,9 @@ async function readIn(tx: ReadTx, id: string): Promise<Worksheet | undefined> {
 function writeWhole(tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>, ws: Worksheet): Promise<unknown>[] {
   const log = tx.objectStore('log');
   return [
-    tx.objectStore('worksheets').put(toStoredWorksheet(ws)),
-    tx.objectStore('summaries').put(summaryOf(ws)),
-    ...ws.log.map((entry, seq) => log.put({ worksheetId: ws.id, seq, entry })),
+    issued(tx.objectStore('worksheets').put(toStoredWorksheet(ws))),
+    issued(tx.objectStore('summaries').put(summaryOf(ws))),
+    ...ws.log.map((entry, seq) => issued(log.put({ worksheetId: ws.id, seq, entry }))),
   ];
 }
 
@@ -577,9 +589,9 @@ class NotebookStore implements Store {
       }
       const log = tx.objectStore('log');
       await Promise.all([
-        tx.objectStore('worksheets').put(record),
-        tx.objectStore('summaries').put(summary),
-        ...change.entries.map((entry, i) => log.add({ worksheetId: ws.id, seq: firstSeq + i, entry })),
+        issued(tx.objectStore('worksheets').put(record)),
+        issued(tx.objectStore('summaries').put(summary)),
+        ...change.entries.map((entry, i) => issued(log.add({ worksheetId: ws.id, seq: firstSeq + i, entry }))),
         done,
       ]);
     } catch (err) {
@@ -608,9 +620,9 @@ class NotebookStore implements Store {
     try {
       removed = (await tx.objectStore('worksheets').getKey(id)) !== undefined;
       await Promise.all([
-        tx.objectStore('worksheets').delete(id),
-        tx.objectStore('summaries').delete(id),
-        tx.objectStore('log').delete(logRange(id)),
+        issued(tx.objectStore('worksheets').delete(id)),
+        issued(tx.objectStore('summaries').delete(id)),
+        issued(tx.objectStore('log').delete(logRange(id))),
         done,
       ]);
     } catch (err) {
@@ -647,7 +659,7 @@ class NotebookStore implements Store {
     const replaced: string[] = [];
     try {
       const store = tx.objectStore('worksheets');
-      const existing = await Promise.all(worksheets.map((ws) => store.get(ws.id)));
+      const existing = await Promise.all(worksheets.map((ws) => issued(store.get(ws.id))));
       const refused = worksheets.filter((ws, i) => existing[i] !== undefined && !mayReplace(ws.id)).map((ws) => ws.id);
       if (refused.length > 0) {
         await done;
@@ -671,7 +683,7 @@ class NotebookStore implements Store {
           const next = { ...ws, rev: Math.max(oldRev, ws.rev) + 1 };
           replaced.push(ws.id);
           written.push(next);
-          requests.push(tx.objectStore('log').delete(logRange(ws.id)));
+          requests.push(issued(tx.objectStore('log').delete(logRange(ws.id))));
         }
       });
       for (const ws of written) requests.push(...writeWhole(tx, ws));
