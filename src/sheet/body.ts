@@ -38,6 +38,17 @@ export function mostellerBsa(heightCm: number, weightKg: number): number {
   return Math.sqrt((heightCm * weightKg) / 3600);
 }
 
+/** DuBois body surface area, m²: 0.007184 × weight^0.425 × height^0.725. DuBois D, DuBois EF, Arch Intern Med 1916;17:863–871. */
+export function duBoisBsa(heightCm: number, weightKg: number): number {
+  return 0.007184 * Math.pow(weightKg, 0.425) * Math.pow(heightCm, 0.725);
+}
+
+/** Devine ideal body weight of a worksheet, or undefined without height and sex. */
+export function idealWeightOf(ws: Pick<Worksheet, 'heightCm' | 'sex'>): IdealWeight | undefined {
+  if (ws.heightCm === undefined || ws.sex === undefined) return undefined;
+  return devineIdealWeight(ws.heightCm, ws.sex);
+}
+
 export interface DosingWeight {
   kg: number;
   basis: 'actual' | 'ideal';

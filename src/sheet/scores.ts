@@ -1,0 +1,453 @@
+/**
+ * SOFA, qSOFA and SIRS at each row, from the values charted in the preceding 24 hours (pure).
+ *
+ * The window at a row is every row at or before it (by position) whose time is later than the
+ * row's time minus 24 h: `(t − 24 h, t]`. Within it each component takes its worst value
+ * (lowest P/F, platelets, MAP and GCS; highest bilirubin and creatinine; SIRS and qSOFA: a
+ * criterion is met when any value in the window meets it).
+ *
+ * No score guesses: a component with no value in the window is listed in `missing` (by measure
+ * key), `score` is the sum of the parts that could be scored, and `complete` says whether every
+ * part was. Version: SOFA as in Sepsis-3 Table 1 (Singer et al., JAMA 2016;315:801–810, adapted
+ * from Vincent et al., Intensive Care Med 1996;22:707–710) — not SOFA-2 (JAMA 2025).
+ *
+ * Decisions where the table leaves a gap (reference file §15):
+ * - Every cut-off is a half-open interval: a value equal to a band's lower bound belongs to that
+ *   band (bilirubin 12.0 mg/dL → 4; creatinine 5.0 → 4; bilirubin 1.95 → 1) (§15 #3).
+ * - µmol/L values are converted to mg/dL (88.4 creatinine, 17.1 bilirubin) and scored on the
+ *   mg/dL cut-offs, not on the rounded µmol/L columns of the table (§15 #2).
+ * - Dopamine exactly 5.0 µg/kg/min scores 2, as in Vincent 1996 ("≤ 5 → 2, > 5 → 3"); Sepsis-3
+ *   Table 1 writes "< 5" and "5.1–15", which leaves 5.0 in a gap (§15 #1).
+ * - P/F < 200 scores 3 or 4 only with respiratory support. Tidemark has no ventilation key, so
+ *   unless the caller says support is in place, P/F < 200 scores 2 and `respiratory_support` is
+ *   listed as missing ("common interpretation of the table", reference file §6).
+ * - Catecholamines count when given for at least 1 h (Sepsis-3 Table 1 footnote): a drug cell is
+ *   the rate running from its row until the next cell of that drug (carried forward; 0 = stopped).
+ *   The dose scored is the highest rate held for ≥ 1 h without a break, in a run that reaches
+ *   into the window. Phenylephrine and vasopressin are not in the 1996 table and are not scored.
+ * - Renal: the worse of creatinine and urine output per day, using urine only when every row of
+ *   the window has a urine volume and the rows cover at least 24 h (the volume is scaled to 24 h).
+ * - qSOFA "altered mentation" is GCS < 15 (Seymour et al., JAMA 2016; reference file §5).
+ * - SIRS: Bone et al. 1992 by default; the SEP-1 variant (temperature > 38.3 °C, no PaCO₂
+ *   alternative) is selectable. Immature (band) forms are not charted in Tidemark, so the white
+ *   cell criterion uses the count alone.
+ */
+
+/** Score keys, in the derived-measure vocabulary. */
+export const SCORE_KEYS = ['sofa', 'qsofa', 'sirs'] as const;
+export type ScoreKey = (typeof SCORE_KEYS)[number];
+
+export type SirsCriteria = 'bone1992' | 'sep1';
+
+export interface ScoreOptions {
+  /** Hours looked back from each row; default 24. */
+  windowHours?: number;
+  /** SIRS criteria set; default Bone 1992. */
+  sirsCriteria?: SirsCriteria;
+  /** Respiratory support (mechanical ventilation, CPAP...) in place; undefined = not known. */
+  respiratorySupport?: boolean;
+  /** Hours a catecholamine must run before it is scored; default 1 (Sepsis-3 Table 1 footnote). */
+  catecholamineMinHours?: number;
+}
+
+export const DEFAULT_WINDOW_HOURS = 24;
+const HOUR_MS = 3_600_000;
+
+/** What the scores read: row times and the value of a key at a row. */
+export interface ScoreInput {
+  /** Row times, ms since the epoch, ascending. */
+  readonly times: readonly number[];
+  /** Charted value of a key at a row, else its built-in derived value (MAP estimate, P/F). */
+  value(rowIndex: number, key: string): number | undefined;
+  /** Index of the last row at or before `rowIndex` with a value of `key`, or −1. */
+  lastIndexAtOrBefore(key: string, rowIndex: number): number;
+}
+
+/** Builds a ScoreInput with an index of last-charted rows (built per key on first use). */
+export function makeScoreInput(times: readonly number[], value: (rowIndex: number, key: string) => number | undefined): ScoreInput {
+  const last = new Map<string, Int32Array>();
+  return {
+    times,
+    value,
+    lastIndexAtOrBefore(key, rowIndex) {
+      let arr = last.get(key);
+      if (!arr) {
+        arr = new Int32Array(times.length);
+        let l = -1;
+        for (let j = 0; j < times.length; j++) {
+          if (value(j, key) !== undefined) l = j;
+          arr[j] = l;
+        }
+        last.set(key, arr);
+      }
+      return rowIndex < 0 ? -1 : arr[Math.min(rowIndex, times.length - 1)]!;
+    },
+  };
+}
+
+// --- Single-component cut-offs (exported so each cut-off is tested on its own) ---------------
+
+export interface RespirationPoints {
+  points: number;
+  /** True when P/F < 200 and respiratory support is not known, so 3–4 could apply. */
+  supportUnknown: boolean;
+}
+
+/**
+ * SOFA respiration from P/F (mmHg). Sepsis-3 Table 1: ≥ 400 → 0; < 400 → 1; < 300 → 2;
+ * < 200 with respiratory support → 3; < 100 with support → 4.
+ */
+export function sofaRespiration(pf: number, support?: boolean): RespirationPoints {
+  if (pf >= 400) return { points: 0, supportUnknown: false };
+  if (pf >= 300) return { points: 1, supportUnknown: false };
+  if (pf >= 200 || support !== true) return { points: 2, supportUnknown: pf < 200 && support === undefined };
+  return { points: pf >= 100 ? 3 : 4, supportUnknown: false };
+}
+
+/** SOFA coagulation from platelets ×10³/µL: ≥ 150 → 0; < 150 → 1; < 100 → 2; < 50 → 3; < 20 → 4. */
+export function sofaCoagulation(platelets: number): number {
+  if (platelets >= 150) return 0;
+  if (platelets >= 100) return 1;
+  if (platelets >= 50) return 2;
+  if (platelets >= 20) return 3;
+  return 4;
+}
+
+/** SOFA liver from bilirubin mg/dL: < 1.2 → 0; 1.2–1.9 → 1; 2.0–5.9 → 2; 6.0–11.9 → 3; ≥ 12.0 → 4 (half-open). */
+export function sofaLiver(bilirubin: number): number {
+  if (bilirubin < 1.2) return 0;
+  if (bilirubin < 2.0) return 1;
+  if (bilirubin < 6.0) return 2;
+  if (bilirubin < 12.0) return 3;
+  return 4;
+}
+
+/** SOFA CNS from GCS: 15 → 0; 13–14 → 1; 10–12 → 2; 6–9 → 3; < 6 → 4. */
+export function sofaCns(gcs: number): number {
+  if (gcs >= 15) return 0;
+  if (gcs >= 13) return 1;
+  if (gcs >= 10) return 2;
+  if (gcs >= 6) return 3;
+  return 4;
+}
+
+/** SOFA renal from creatinine mg/dL: < 1.2 → 0; 1.2–1.9 → 1; 2.0–3.4 → 2; 3.5–4.9 → 3; ≥ 5.0 → 4 (half-open). */
+export function sofaRenalCreatinine(creatinine: number): number {
+  if (creatinine < 1.2) return 0;
+  if (creatinine < 2.0) return 1;
+  if (creatinine < 3.5) return 2;
+  if (creatinine < 5.0) return 3;
+  return 4;
+}
+
+/** SOFA renal from urine output mL/day: < 500 → 3; < 200 → 4; otherwise 0 (the urine column scores only 3 and 4). */
+export function sofaRenalUrine(mlPerDay: number): number {
+  if (mlPerDay < 200) return 4;
+  if (mlPerDay < 500) return 3;
+  return 0;
+}
+
+export interface CardiovascularInput {
+  /** Lowest MAP, mmHg. */
+  map?: number | undefined;
+  /** Catecholamine rates held ≥ 1 h, µg/kg/min. */
+  dopamine?: number | undefined;
+  dobutamine?: number | undefined;
+  epinephrine?: number | undefined;
+  norepinephrine?: number | undefined;
+}
+
+/**
+ * SOFA cardiovascular. MAP ≥ 70 → 0; MAP < 70 → 1; dopamine ≤ 5 or dobutamine (any dose) → 2;
+ * dopamine > 5 or epinephrine ≤ 0.1 or norepinephrine ≤ 0.1 → 3; dopamine > 15 or
+ * epinephrine > 0.1 or norepinephrine > 0.1 → 4. Undefined when nothing is known.
+ */
+export function sofaCardiovascular(c: CardiovascularInput): number | undefined {
+  let points: number | undefined = c.map === undefined ? undefined : c.map < 70 ? 1 : 0;
+  const raise = (p: number): void => {
+    points = points === undefined ? p : Math.max(points, p);
+  };
+  const dopa = c.dopamine ?? 0;
+  if (dopa > 15) raise(4);
+  else if (dopa > 5) raise(3);
+  else if (dopa > 0) raise(2);
+  if ((c.dobutamine ?? 0) > 0) raise(2);
+  for (const v of [c.epinephrine ?? 0, c.norepinephrine ?? 0]) {
+    if (v > 0.1) raise(4);
+    else if (v > 0) raise(3);
+  }
+  return points;
+}
+
+// --- Results --------------------------------------------------------------------------------
+
+export type SofaOrgan = 'respiration' | 'coagulation' | 'liver' | 'cardiovascular' | 'cns' | 'renal';
+export const SOFA_ORGANS: readonly SofaOrgan[] = ['respiration', 'coagulation', 'liver', 'cardiovascular', 'cns', 'renal'];
+
+/** The worst value that decided a part, and where it was charted. */
+export interface Evidence {
+  key: string;
+  value: number;
+  /** Row time, ms since the epoch. */
+  time: number;
+}
+
+export interface ScoreResult<Part extends string> {
+  /** Sum of the parts that could be scored. */
+  score: number;
+  /** Points per part; absent when the part could not be scored. */
+  parts: Partial<Record<Part, number>>;
+  /** Measure keys (or `respiratory_support`) whose values are needed but not charted in the window. */
+  missing: string[];
+  /** True when every part was scored. */
+  complete: boolean;
+  /** What decided each part. */
+  evidence: Partial<Record<Part, Evidence>>;
+  /** Plain-language remarks (decisions applied, drugs not yet scored...). */
+  notes: string[];
+}
+
+export type SofaResult = ScoreResult<SofaOrgan>;
+export type QsofaPart = 'respiratory_rate' | 'systolic_pressure' | 'mentation';
+export type QsofaResult = ScoreResult<QsofaPart> & { /** ≥ 2 points; undefined when missing parts could change the answer. */ positive: boolean | undefined };
+export type SirsPart = 'temperature' | 'heart_rate' | 'respiratory' | 'white_cells';
+export type SirsResult = ScoreResult<SirsPart> & { criteria: SirsCriteria; positive: boolean | undefined };
+
+export interface RowScores {
+  sofa: SofaResult;
+  qsofa: QsofaResult;
+  sirs: SirsResult;
+}
+
+// --- Window scanning --------------------------------------------------------------------------
+
+interface Extreme {
+  value: number;
+  time: number;
+}
+
+/** First row index of the window ending at row i. */
+export function windowStart(times: readonly number[], i: number, windowHours = DEFAULT_WINDOW_HOURS): number {
+  const from = times[i]! - windowHours * HOUR_MS;
+  let j = i;
+  while (j > 0 && times[j - 1]! > from) j--;
+  return j;
+}
+
+const CATECHOLAMINES = ['dopamine', 'dobutamine', 'epinephrine', 'norepinephrine'] as const;
+type Catecholamine = (typeof CATECHOLAMINES)[number];
+
+/**
+ * The highest rate of a drug held for at least `minHours` without a break, in a run that reaches
+ * into the window `(from, now]`. Returns `running` = a rate is charted in the window but has not
+ * yet been held long enough.
+ */
+export function sustainedRate(
+  input: ScoreInput,
+  key: string,
+  i: number,
+  windowHours = DEFAULT_WINDOW_HOURS,
+  minHours = 1,
+): { rate: number | undefined; runningShort: number | undefined } {
+  const now = input.times[i]!;
+  const from = now - windowHours * HOUR_MS;
+  const lookFrom = from - minHours * HOUR_MS;
+  // Charted points from lookFrom on, with the value carried in from before it.
+  const points: { t: number; r: number }[] = [];
+  let j = input.lastIndexAtOrBefore(key, i);
+  const later: { t: number; r: number }[] = [];
+  while (j >= 0 && input.times[j]! > lookFrom) {
+    later.push({ t: input.times[j]!, r: input.value(j, key)! });
+    j = input.lastIndexAtOrBefore(key, j - 1);
+  }
+  if (j >= 0) points.push({ t: lookFrom, r: input.value(j, key)! });
+  for (let k = later.length - 1; k >= 0; k--) points.push(later[k]!);
+  if (points.length === 0) return { rate: undefined, runningShort: undefined };
+  const segs = points.map((p, k) => ({ start: p.t, end: k + 1 < points.length ? points[k + 1]!.t : now, rate: p.r }));
+  const levels = [...new Set(segs.filter((s) => s.rate > 0 && s.end > from).map((s) => s.rate))].sort((a, b) => b - a);
+  const minMs = minHours * HOUR_MS;
+  for (const c of levels) {
+    let runStart: number | undefined;
+    for (let k = 0; k < segs.length; k++) {
+      const s = segs[k]!;
+      if (s.rate >= c) {
+        if (runStart === undefined) runStart = s.start;
+        const endsHere = k + 1 === segs.length || segs[k + 1]!.rate < c;
+        if (endsHere) {
+          if (s.end > from && s.end - runStart >= minMs) return { rate: c, runningShort: undefined };
+          runStart = undefined;
+        }
+      } else runStart = undefined;
+    }
+  }
+  const current = segs[segs.length - 1]!;
+  const shortRate = levels.length > 0 ? (current.rate > 0 ? current.rate : levels[0]) : undefined;
+  return { rate: undefined, runningShort: shortRate };
+}
+
+function fmt(x: number): string {
+  return String(Number(x.toPrecision(4)));
+}
+
+/**
+ * All three scores at row i. One pass over the window for the charted extremes, plus the
+ * catecholamine runs.
+ */
+export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {}): RowScores {
+  const windowHours = options.windowHours ?? DEFAULT_WINDOW_HOURS;
+  const sirsCriteria = options.sirsCriteria ?? 'bone1992';
+  const start = windowStart(input.times, i, windowHours);
+
+  const lo: Record<string, Extreme | undefined> = {};
+  const hi: Record<string, Extreme | undefined> = {};
+  const LOW_KEYS = ['pf_ratio', 'platelets', 'map', 'gcs', 'sbp', 'temp', 'wbc', 'paco2', 'rr', 'hr'];
+  const HIGH_KEYS = ['bilirubin', 'creatinine', 'rr', 'hr', 'temp', 'wbc'];
+  let urineTotal = 0;
+  let urineEveryRow = true;
+  for (let j = start; j <= i; j++) {
+    const t = input.times[j]!;
+    for (const k of LOW_KEYS) {
+      const v = input.value(j, k);
+      if (v !== undefined && (lo[k] === undefined || v < lo[k]!.value)) lo[k] = { value: v, time: t };
+    }
+    for (const k of HIGH_KEYS) {
+      const v = input.value(j, k);
+      if (v !== undefined && (hi[k] === undefined || v > hi[k]!.value)) hi[k] = { value: v, time: t };
+    }
+    const uo = input.value(j, 'uo_ml');
+    if (uo === undefined) urineEveryRow = false;
+    else urineTotal += uo;
+  }
+
+  // --- SOFA ---
+  const sofa: SofaResult = { score: 0, parts: {}, missing: [], complete: false, evidence: {}, notes: [] };
+  const setPart = (organ: SofaOrgan, points: number, ev?: Evidence): void => {
+    sofa.parts[organ] = points;
+    if (ev) sofa.evidence[organ] = ev;
+  };
+  const pf = lo['pf_ratio'];
+  if (pf) {
+    const r = sofaRespiration(pf.value, options.respiratorySupport);
+    setPart('respiration', r.points, { key: 'pf_ratio', ...pf });
+    if (r.supportUnknown) {
+      sofa.missing.push('respiratory_support');
+      sofa.notes.push(`P/F ${fmt(pf.value)} is below 200: 3 or 4 points need respiratory support, which is not charted, so respiration scores 2.`);
+    } else if (pf.value < 200 && options.respiratorySupport === false) {
+      sofa.notes.push(`P/F ${fmt(pf.value)} is below 200 without respiratory support: respiration scores 2.`);
+    }
+  } else sofa.missing.push('pf_ratio');
+
+  const plt = lo['platelets'];
+  if (plt) setPart('coagulation', sofaCoagulation(plt.value), { key: 'platelets', ...plt });
+  else sofa.missing.push('platelets');
+
+  const bili = hi['bilirubin'];
+  if (bili) setPart('liver', sofaLiver(bili.value), { key: 'bilirubin', ...bili });
+  else sofa.missing.push('bilirubin');
+
+  const minHours = options.catecholamineMinHours ?? 1;
+  const held: Partial<Record<Catecholamine, number>> = {};
+  for (const drug of CATECHOLAMINES) {
+    const s = sustainedRate(input, drug, i, windowHours, minHours);
+    if (s.rate !== undefined) held[drug] = s.rate;
+    else if (s.runningShort !== undefined) sofa.notes.push(`${drug} ${fmt(s.runningShort)} µg/kg/min has run less than ${minHours} h: not scored yet.`);
+  }
+  const mapLow = lo['map'];
+  const cv = sofaCardiovascular({ map: mapLow?.value, ...held });
+  if (cv === undefined) sofa.missing.push('map');
+  else {
+    const drugEntries = Object.entries(held) as [Catecholamine, number][];
+    const drugOnly = sofaCardiovascular({ ...held }) ?? 0;
+    if (drugOnly >= cv && drugEntries.length > 0) {
+      const [k, v] = drugEntries.sort((a, b) => b[1] - a[1])[0]!;
+      setPart('cardiovascular', cv, { key: k, value: v, time: input.times[i]! });
+    } else setPart('cardiovascular', cv, mapLow ? { key: 'map', ...mapLow } : undefined);
+    if (held.dopamine === 5) sofa.notes.push('Dopamine exactly 5 µg/kg/min scores 2 (Vincent 1996 "≤ 5"; Sepsis-3 leaves 5.0 between bands).');
+  }
+
+  const gcs = lo['gcs'];
+  if (gcs) setPart('cns', sofaCns(gcs.value), { key: 'gcs', ...gcs });
+  else sofa.missing.push('gcs');
+
+  const creat = hi['creatinine'];
+  let urinePerDay: number | undefined;
+  if (urineEveryRow && start > 0) {
+    const span = input.times[i]! - input.times[start - 1]!;
+    if (span >= 24 * HOUR_MS) urinePerDay = (urineTotal * 24 * HOUR_MS) / span;
+  }
+  const creatPts = creat ? sofaRenalCreatinine(creat.value) : undefined;
+  const urinePts = urinePerDay !== undefined ? sofaRenalUrine(urinePerDay) : undefined;
+  if (creatPts === undefined && urinePts === undefined) {
+    sofa.missing.push('creatinine');
+    sofa.notes.push('Renal: no creatinine, and urine output is not charted for a full 24 h.');
+  } else if (urinePts !== undefined && (creatPts === undefined || urinePts > creatPts)) {
+    setPart('renal', urinePts, { key: 'uo_ml', value: urinePerDay!, time: input.times[i]! });
+  } else {
+    setPart('renal', creatPts!, creat ? { key: 'creatinine', ...creat } : undefined);
+    if (urinePts === undefined && creatPts! < 4) sofa.notes.push('Renal scored from creatinine only: urine output is not charted for a full 24 h.');
+  }
+  sofa.score = SOFA_ORGANS.reduce((s, o) => s + (sofa.parts[o] ?? 0), 0);
+  sofa.complete = sofa.missing.length === 0;
+
+  // --- qSOFA (Sepsis-3: RR ≥ 22, SBP ≤ 100, altered mentation = GCS < 15) ---
+  const q: QsofaResult = { score: 0, parts: {}, missing: [], complete: false, evidence: {}, notes: [], positive: undefined };
+  const rrHi = hi['rr'];
+  if (rrHi) {
+    q.parts.respiratory_rate = rrHi.value >= 22 ? 1 : 0;
+    q.evidence.respiratory_rate = { key: 'rr', ...rrHi };
+  } else q.missing.push('rr');
+  const sbpLo = lo['sbp'];
+  if (sbpLo) {
+    q.parts.systolic_pressure = sbpLo.value <= 100 ? 1 : 0;
+    q.evidence.systolic_pressure = { key: 'sbp', ...sbpLo };
+  } else q.missing.push('sbp');
+  if (gcs) {
+    q.parts.mentation = gcs.value < 15 ? 1 : 0;
+    q.evidence.mentation = { key: 'gcs', ...gcs };
+  } else q.missing.push('gcs');
+  finishCount(q, 2);
+
+  // --- SIRS ---
+  const s: SirsResult = { score: 0, parts: {}, missing: [], complete: false, evidence: {}, notes: [], positive: undefined, criteria: sirsCriteria };
+  const tempHigh = sirsCriteria === 'sep1' ? 38.3 : 38.0;
+  const tHi = hi['temp'];
+  const tLo = lo['temp'];
+  if (tHi && tLo) {
+    const met = tHi.value > tempHigh || tLo.value < 36.0;
+    s.parts.temperature = met ? 1 : 0;
+    s.evidence.temperature = { key: 'temp', ...(tHi.value > tempHigh ? tHi : tLo.value < 36.0 ? tLo : tHi) };
+  } else s.missing.push('temp');
+  const hrHi = hi['hr'];
+  if (hrHi) {
+    s.parts.heart_rate = hrHi.value > 90 ? 1 : 0;
+    s.evidence.heart_rate = { key: 'hr', ...hrHi };
+  } else s.missing.push('hr');
+  const pacoLo = sirsCriteria === 'bone1992' ? lo['paco2'] : undefined;
+  if (rrHi || pacoLo) {
+    const rrMet = rrHi !== undefined && rrHi.value > 20;
+    const pacoMet = pacoLo !== undefined && pacoLo.value < 32;
+    s.parts.respiratory = rrMet || pacoMet ? 1 : 0;
+    s.evidence.respiratory = rrHi && (rrMet || !pacoMet) ? { key: 'rr', ...rrHi } : { key: 'paco2', ...pacoLo! };
+  } else s.missing.push('rr');
+  const wHi = hi['wbc'];
+  const wLo = lo['wbc'];
+  if (wHi && wLo) {
+    const met = wHi.value > 12 || wLo.value < 4;
+    s.parts.white_cells = met ? 1 : 0;
+    s.evidence.white_cells = { key: 'wbc', ...(wHi.value > 12 ? wHi : wLo.value < 4 ? wLo : wHi) };
+  } else s.missing.push('wbc');
+  if (sirsCriteria === 'sep1') s.notes.push('SEP-1 SIRS: temperature > 38.3 °C or < 36.0 °C; respiratory rate > 20 (no PaCO₂ alternative).');
+  else s.notes.push('SIRS (Bone 1992): temperature > 38.0 °C or < 36.0 °C; respiratory rate > 20 or PaCO₂ < 32 mmHg.');
+  s.notes.push('Band forms are not charted; the white-cell criterion uses the count only.');
+  finishCount(s, 2);
+
+  return { sofa, qsofa: q, sirs: s };
+}
+
+function finishCount<P extends string>(r: ScoreResult<P> & { positive: boolean | undefined }, threshold: number): void {
+  r.score = (Object.values(r.parts) as number[]).reduce((a, b) => a + b, 0);
+  r.complete = r.missing.length === 0;
+  if (r.score >= threshold) r.positive = true;
+  else if (r.score + r.missing.length < threshold) r.positive = false;
+  else r.positive = undefined;
+}
