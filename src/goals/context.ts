@@ -1,0 +1,145 @@
+/**
+ * What the goal engine looks at when it evaluates a worksheet at a moment: the rows charted up to
+ * that moment in time order, their derived values, the dosing weight, and helpers to read values
+ * and to write times and values in plain words. Pure.
+ */
+import { dosingWeight, type DosingWeight } from '../sheet/body.js';
+import { MINUTE_MS } from '../sheet/clock.js';
+import { DERIVED, deriveWorksheet, valueAt, type DerivedRow } from '../sheet/derived.js';
+import { MEASURES } from '../sheet/measures.js';
+import type { Row, Worksheet } from '../sheet/model.js';
+import { formatClock, formatDateTime, formatDuration } from '../sheet/time.js';
+
+/** Tolerance for threshold comparisons (reference file §15 #19: IEEE-754 makes 10% come out as 9.999…). */
+export const EPS = 1e-9;
+
+export interface TimedRow {
+  row: Row;
+  ms: number;
+  /** Time of the previous row of the worksheet (any row), if any: the start of this row's interval. */
+  prevMs: number | undefined;
+}
+
+export interface EvalContext {
+  ws: Worksheet;
+  atMs: number;
+  /** Time zero in ms. */
+  t0Ms: number;
+  /** Rows at or before `atMs`, in time order (whatever order they were entered in). */
+  rows: TimedRow[];
+  derived: ReadonlyMap<string, DerivedRow>;
+  weight: DosingWeight | undefined;
+  /** Offset used to write times. */
+  offset: number;
+}
+
+/** Sorted rows with their times; stable for rows at the same instant. */
+export function timedRows(ws: Worksheet): TimedRow[] {
+  const sorted = ws.rows
+    .map((row, i) => ({ row, ms: Date.parse(row.time), i }))
+    .sort((a, b) => a.ms - b.ms || a.i - b.i);
+  return sorted.map((r, i) => ({ row: r.row, ms: r.ms, prevMs: i > 0 ? sorted[i - 1]!.ms : undefined }));
+}
+
+/** Builds the context; `t0Ms` must be a finite time (callers check that time zero is set). */
+export function makeContext(ws: Worksheet, atMs: number, t0Ms: number): EvalContext {
+  // Derived values are computed on the time-ordered rows so out-of-order input cannot bend them.
+  const all = timedRows(ws);
+  const ordered: Worksheet = { ...ws, rows: all.map((r) => r.row) };
+  const derived = new Map(deriveWorksheet(ordered).map((d) => [d.rowId, d]));
+  return {
+    ws,
+    atMs,
+    t0Ms,
+    rows: all.filter((r) => r.ms <= atMs),
+    derived,
+    weight: dosingWeight(ws),
+    offset: ws.displayOffset,
+  };
+}
+
+/** A number at a row: the charted value, else the derived one (so MAP may be estimated). */
+export function num(ctx: EvalContext, r: TimedRow, key: string): number | undefined {
+  return valueAt(r.row, ctx.derived.get(r.row.id), key);
+}
+
+/** Whether a row has a cell for `key` (mark, text or number) or a derived number. */
+export function has(ctx: EvalContext, r: TimedRow, key: string): boolean {
+  return r.row.cells[key] !== undefined || ctx.derived.get(r.row.id)?.values[key] !== undefined;
+}
+
+export function compare(a: number, op: '>' | '>=' | '<' | '<=', b: number): boolean {
+  switch (op) {
+    case '>':
+      return a > b + EPS;
+    case '>=':
+      return a >= b - EPS;
+    case '<':
+      return a < b - EPS;
+    case '<=':
+      return a <= b + EPS;
+  }
+}
+
+/** Rows in [fromMs, atMs]. */
+export function rowsFrom(ctx: EvalContext, fromMs: number): TimedRow[] {
+  return ctx.rows.filter((r) => r.ms >= fromMs);
+}
+
+/** "08:15", or "2026-03-01 08:15" when the day differs from time zero's day, in the worksheet offset. */
+export function clockText(ctx: EvalContext, ms: number): string {
+  const iso = new Date(ms).toISOString();
+  const day = formatDateTime(iso, ctx.offset).slice(0, 10);
+  const t0Day = formatDateTime(new Date(ctx.t0Ms).toISOString(), ctx.offset).slice(0, 10);
+  return day === t0Day ? formatClock(iso, ctx.offset) : formatDateTime(iso, ctx.offset);
+}
+
+/** "75 min", "2 h 5 min" (exact duration between instants). */
+export function durationText(ms: number): string {
+  return formatDuration(ms);
+}
+
+/** Minutes between instants, exact. */
+export function minutesBetween(fromMs: number, toMs: number): number {
+  return (toMs - fromMs) / MINUTE_MS;
+}
+
+/** Short name of a measure or derived measure: "MAP", "Lactate". */
+export function keyName(key: string): string {
+  return MEASURES.get(key)?.short ?? DERIVED.get(key)?.short ?? key;
+}
+
+/** The short name as a word inside a sentence: "lactate", but "MAP" and "ScvO₂" stay as written. */
+export function keyWord(key: string): string {
+  const name = keyName(key);
+  const rest = name.slice(1);
+  return rest === rest.toLowerCase() ? name.charAt(0).toLowerCase() + rest : name;
+}
+
+/** Unit label of a measure or derived measure: "mmHg". */
+export function keyUnit(key: string): string {
+  const m = MEASURES.get(key);
+  if (m) return m.unit?.label ?? '';
+  return DERIVED.get(key)?.unitLabel ?? '';
+}
+
+function decimalsOf(key: string): number {
+  return MEASURES.get(key)?.decimals ?? DERIVED.get(key)?.decimals ?? 1;
+}
+
+/** A value for people: "4.6 mmol/L". */
+export function valueText(key: string, v: number): string {
+  const rounded = Number(v.toFixed(decimalsOf(key)));
+  const unit = keyUnit(key);
+  return unit ? `${rounded} ${unit}` : String(rounded);
+}
+
+/** "Lactate 4.6 mmol/L". */
+export function namedValue(key: string, v: number): string {
+  return `${keyName(key)} ${valueText(key, v)}`;
+}
+
+/** Number of a volume for people: "2100 mL" (whole millilitres). */
+export function mlText(ml: number): string {
+  return `${Math.round(ml)} mL`;
+}
