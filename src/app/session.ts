@@ -10,6 +10,7 @@
  *   can detect a change made in another tab (a rev mismatch) and we re-apply on top of it.
  */
 import type { Clock } from '../sheet/clock.js';
+import type { Store } from '../storage/store.js';
 import type { Cell, Row, Worksheet } from '../sheet/model.js';
 import {
   addRow,
@@ -25,16 +26,8 @@ import {
   type Facts,
 } from '../sheet/worksheet.js';
 
-/** What the store answers to a commit. */
-export type CommitResult =
-  | { ok: true }
-  | { ok: false; reason: 'conflict'; current: Worksheet }
-  | { ok: false; reason: 'quota' | 'failed' | 'closed'; message: string };
-
 /** The part of the store a session needs. */
-export interface SessionStore {
-  commit(change: Change, expectedRev: number): Promise<CommitResult>;
-}
+export type SessionStore = Pick<Store, 'commit'>;
 
 export interface CellEdit {
   rowId: string;
@@ -54,7 +47,7 @@ type Command =
 export type SaveState =
   | { kind: 'saved' }
   | { kind: 'saving' }
-  | { kind: 'failed'; reason: 'quota' | 'failed' | 'closed'; message: string };
+  | { kind: 'failed'; reason: 'quota' | 'failed' | 'closed' | 'missing'; message: string };
 
 export interface SessionSnapshot {
   worksheet: Worksheet;
@@ -233,7 +226,8 @@ export class WorksheetSession {
         return true;
       }
       if (res.reason !== 'conflict') {
-        this.failure = { kind: 'failed', reason: res.reason, message: res.message };
+        const reason = res.reason === 'invalid' ? 'failed' : res.reason;
+        this.failure = { kind: 'failed', reason, message: res.message };
         return false;
       }
       // Another tab saved first: take its version and re-apply this edit on top of it. Both
