@@ -182,6 +182,17 @@ describe('commit', () => {
     const r = await store.commit(broken, ws.rev);
     if (r.ok || r.reason !== 'invalid') throw new Error('expected invalid');
     expect(r.problems[0]).toMatch(/^worksheet\.weightKg: /);
+    // an invalid cell in the row the change touched
+    const badCell = {
+      ...change,
+      worksheet: {
+        ...change.worksheet,
+        rows: change.worksheet.rows.map((row, i) => (i === 0 ? { ...row, cells: { ...row.cells, rr: { value: Number.NaN } } } : row)),
+      },
+    };
+    const c = await store.commit(badCell, ws.rev);
+    if (c.ok || c.reason !== 'invalid') throw new Error('expected invalid');
+    expect(c.problems[0]).toMatch(/^worksheet\.rows\[0\]\.cells\.rr\.value: /);
     expect(await store.get(ws.id)).toStrictEqual(ws);
   });
 
