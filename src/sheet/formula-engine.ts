@@ -64,7 +64,7 @@ export const MAX_FORMULA_LENGTH = 500;
 /** Most parse-tree parts (numbers, names, operators, calls) a formula may have. */
 export const MAX_FORMULA_NODES = 250;
 /** Deepest nesting of parts. */
-export const MAX_FORMULA_DEPTH = 40;
+export const MAX_FORMULA_DEPTH = 100;
 /** Most arguments to one function call. */
 export const MAX_FUNCTION_ARGS = 20;
 
@@ -600,6 +600,14 @@ function compileOrThrow(text: string, options: CompileOptions): CompileResult {
     const msg = e instanceof Error ? e.message : String(e);
     const plain = plainSyntaxMessage(msg);
     return position === undefined ? { ok: false, error: `${plain[0]!.toUpperCase()}${plain.slice(1)}.` } : { ok: false, error: `${at(position)}${plain}.`, position };
+  }
+  // Count the parts first (a long chain a + b + c... is deep but harmless up to the part limit).
+  let count = 0;
+  tree.traverse(() => {
+    count++;
+  });
+  if (count > MAX_FORMULA_NODES) {
+    return { ok: false, error: `The formula is too complex: ${count} parts, the limit is ${MAX_FORMULA_NODES}.` };
   }
   const state: WalkState = { text, names, helperKeys, columns, nodes: 0 };
   walk(tree, state, 0);
