@@ -116,6 +116,19 @@ export function keyWord(key: string): string {
   return rest === rest.toLowerCase() ? name.charAt(0).toLowerCase() + rest : name;
 }
 
+/** A noun for a measure in a sentence: "lactate", "MAP"; derived measures by their label ("urine output rate"). */
+export function keyNoun(key: string): string {
+  if (MEASURES.has(key)) return keyWord(key);
+  const label = DERIVED.get(key)?.label;
+  return label ? label.charAt(0).toLowerCase() + label.slice(1) : key;
+}
+
+/** A span of minutes for people: "1 h", "4 h", "90 min" → "1 h 30 min". */
+export function spanText(minutes: number): string {
+  if (minutes > 0 && minutes % 60 === 0) return `${minutes / 60} h`;
+  return formatDuration(minutes * MINUTE_MS);
+}
+
 /** Unit label of a measure or derived measure: "mmHg". */
 export function keyUnit(key: string): string {
   const m = MEASURES.get(key);

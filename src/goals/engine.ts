@@ -20,7 +20,7 @@
  */
 import { MINUTE_MS, toInstant } from '../sheet/clock.js';
 import type { Worksheet } from '../sheet/model.js';
-import { clockText, durationText, makeContext, type EvalContext } from './context.js';
+import { clockText, makeContext, spanText, type EvalContext } from './context.js';
 import { evaluateCustomGoals } from './custom.js';
 import { evalPredicate, type PredicateResult } from './predicates.js';
 import { CUSTOM_SET_ID, defaultRegistry, type GoalRegistry } from './registry.js';
@@ -34,19 +34,19 @@ export type { GoalStatus } from './status.js';
 function deadlineOf(ctx: EvalContext, goal: GoalDef, cond: PredicateResult): DeadlineInfo | undefined {
   const d = goal.deadline;
   if (!d) return undefined;
-  const mins = `${durationText(d.minutes * MINUTE_MS)}`;
+  const mins = spanText(d.minutes);
   if (d.from === 'time-zero') return { ms: ctx.t0Ms + d.minutes * MINUTE_MS, text: `${mins} from time zero` };
   let since = cond.sinceMs;
-  let what = 'when it began to apply';
+  let what = 'when the goal began to apply';
   if (d.from !== 'condition') {
     const p = evalPredicate(ctx, d.from.when);
     if (p.state === 'yes') {
       since = p.sinceMs;
-      what = `${d.from.text}`;
+      what = d.from.text;
     }
   }
   const anchor = Math.max(ctx.t0Ms, since ?? ctx.t0Ms);
-  const from = anchor === ctx.t0Ms ? 'time zero' : `${what} (${clockText(ctx, anchor)})`;
+  const from = anchor === ctx.t0Ms ? 'time zero' : `${clockText(ctx, anchor)}, ${what}`;
   return { ms: anchor + d.minutes * MINUTE_MS, text: `${mins} from ${from}` };
 }
 

@@ -11,6 +11,7 @@ import {
   has,
   keyName,
   keyUnit,
+  keyNoun,
   keyWord,
   minutesBetween,
   mlText,
@@ -77,18 +78,19 @@ export interface RuleFacts {
   volume?: VolumeInfo;
 }
 
-function cellDetail(ctx: EvalContext, r: TimedRow, key: string): string {
+function cellDetail(ctx: EvalContext, r: TimedRow, key: string, named: boolean): string {
   const cell = r.row.cells[key];
+  const numberText = (v: number): string => ` (${named ? `${keyName(key)} ` : ''}${valueText(key, v)})`;
   if (cell) {
     if (typeof cell.value === 'string') {
       const t = cell.value.trim();
       return t ? ` (${t.length > 40 ? `${t.slice(0, 39)}…` : t})` : '';
     }
-    if (typeof cell.value === 'number') return ` (${keyName(key)} ${valueText(key, cell.value)})`;
+    if (typeof cell.value === 'number') return numberText(cell.value);
     return cell.text ? ` (${cell.text})` : '';
   }
   const v = num(ctx, r, key);
-  return v === undefined ? '' : ` (${keyName(key)} ${valueText(key, v)})`;
+  return v === undefined ? '' : numberText(v);
 }
 
 function firstWith(ctx: EvalContext, fromMs: number, keys: readonly string[], op?: '>' | '>=' | '<' | '<=', value?: number): { r: TimedRow; key: string } | undefined {
@@ -137,14 +139,14 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
           return { holdsNow: false, text: `${capital(rule.event)} counts only after this: ${p.text}`, supportRowIds: [], failRowIds: [] };
         }
         from = Math.max(from, p.sinceMs!);
-        after = ` (counted from ${clockText(ctx, p.sinceMs!)}, when ${p.text})`;
+        after = ` (counting from ${clockText(ctx, p.sinceMs!)}: ${p.text})`;
       }
       const hit = firstWith(ctx, from, rule.keys, rule.op, rule.value);
       if (!hit) return { holdsNow: false, text: `No ${rule.event} charted yet${after}`, supportRowIds: [], failRowIds: [] };
       return {
         doneMs: hit.r.ms,
         holdsNow: true,
-        text: `${capital(rule.event)} at ${clockText(ctx, hit.r.ms)}${cellDetail(ctx, hit.r, hit.key)}${after}`,
+        text: `${capital(rule.event)} at ${clockText(ctx, hit.r.ms)}${cellDetail(ctx, hit.r, hit.key, rule.keys.length > 1)}${after}`,
         supportRowIds: [hit.r.row.id],
         failRowIds: [],
       };
@@ -209,7 +211,7 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
         return { holdsNow: false, text: `${mlText(v.givenMl)} of ${perKg} charted so far`, supportRowIds: [], failRowIds: [], volume };
       }
       if (v.first) {
-        const so = w ? `; ${mlText(v.givenMl)} of ${perKg} so far` : `; ${mlText(v.givenMl)} so far (no weight for the per-kg volume)`;
+        const so = w ? ` (${mlText(v.givenMl)} so far of ${perKg})` : ` (${mlText(v.givenMl)} so far; no weight for the per-kg volume)`;
         return { doneMs: v.first.ms, holdsNow: true, text: `Crystalloid started by ${clockText(ctx, v.first.ms)}${so}`, supportRowIds: [v.first.row.id], failRowIds: [], volume };
       }
       return { holdsNow: false, text: `No crystalloid charted yet (${perKg})`, supportRowIds: [], failRowIds: [], volume };
@@ -254,13 +256,15 @@ function evalTarget(ctx: EvalContext, rule: Extract<Rule, { kind: 'target' }>, c
     shareInRange: null, chartedMinutes: 0, count: 0,
   };
   if (series.length === 0) {
-    const t = `No ${name} charted${since}`;
+    const t = keyUnit(rule.key).includes('/kg') && ctx.ws.weightKg === undefined
+      ? `No weight, so ${keyNoun(rule.key)} cannot be worked out`
+      : `No ${keyNoun(rule.key)} charted${since}`;
     return { noData: t, holdsNow: false, text: t, supportRowIds: [], failRowIds: [], target: empty };
   }
   const test = rule.test;
   const ref = series[0]!.v;
   if (test.kind === 'drop-from-first' && series.length < 2) {
-    const t = `Only one ${name} (${valueText(rule.key, ref)} at ${clockText(ctx, series[0]!.r.ms)}); a second is needed to see the trend`;
+    const t = `Only one ${keyWord(rule.key)} (${valueText(rule.key, ref)} at ${clockText(ctx, series[0]!.r.ms)}); a second is needed to see the trend`;
     const latest = series[0]!;
     return {
       noData: t, holdsNow: false, text: t, supportRowIds: [latest.r.row.id], failRowIds: [],

@@ -138,7 +138,7 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
     if (facts.holdsNow) {
       out.status = 'met';
       const when = facts.target ? '' : `, ${relToT0(ctx, done)}`;
-      out.explanation = sentence(`${facts.text}${when}${deadline && !facts.target ? `; in time (${due})` : ''}`);
+      out.explanation = sentence(`${facts.text}${when}${deadline && !facts.target ? `; within the deadline (${clockText(ctx, deadline.ms)}, ${deadline.text})` : ''}`);
       return out;
     }
     out.status = 'pending';
