@@ -222,7 +222,8 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
   const version = migrations[migrations.length - 1]?.version ?? DB_VERSION;
 
   let upgradeError: unknown;
-  let store: NotebookStore | undefined;
+  /** The upgrade steps' run; settles (never rejects) when they finish or fail. */
+  let stepsRun: Promise<void> = Promise.resolve();
   let request: IDBOpenDBRequest;
   try {
     request = factory.open(name, version);
@@ -239,7 +240,7 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
     const steps = migrations.filter((m) => m.version > event.oldVersion);
     // idb does not wait for an async upgrade: run the steps ourselves and abort on failure, so a
     // half-done upgrade never commits (reference §1.7, idb#281).
-    void (async () => {
+    stepsRun = (async () => {
       for (const step of steps) await step.run(db, tx);
     })().catch((err: unknown) => {
       upgradeError ??= err;
@@ -269,9 +270,20 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
     }
     throw new StoreError('failed', `Could not open the notebook database: ${errorName(err) || 'error'} ${errorMessage(err)}`.trim());
   }
+  // Normally already settled: steps await only IndexedDB requests, so they end before the commit.
+  await stepsRun;
+  if (upgradeError !== undefined) {
+    // A step failed after its transaction had already committed (it awaited something other than
+    // an IndexedDB request). The upgrade could not be undone: refuse loudly rather than run on
+    // half-migrated data. Steps are tested so this stays a development-time failure.
+    raw.close();
+    throw new StoreError(
+      'upgrade-failed',
+      `A schema step failed after the upgrade to version ${version} had committed: ${errorMessage(upgradeError)}`,
+    );
+  }
   const db = raw as unknown as DB;
-  store = new NotebookStore(name, db, options.broadcast ?? true);
-  const opened = store;
+  const opened = new NotebookStore(name, db, options.broadcast ?? true);
   db.addEventListener('versionchange', (event) => {
     options.onVersionChange?.({ currentVersion: event.oldVersion, requestedVersion: event.newVersion });
     opened.close();
@@ -280,7 +292,7 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
     opened.markClosed();
     options.onClosed?.();
   });
-  return store;
+  return opened;
 }
 
 // ---------------------------------------------------------------------------------------------

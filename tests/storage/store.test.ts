@@ -409,6 +409,25 @@ describe('schema versions and upgrades', () => {
     expect(await store.get(a.id)).toStrictEqual(a);
   });
 
+  it('a step that awaits a timer (the transaction auto-commits) is refused loudly, not ignored', async () => {
+    // Reference §1.7: awaiting a macrotask inside a transaction lets it commit; the next request
+    // throws TransactionInactiveError (fake-indexeddb reproduces it).
+    const sloppyV2: Migration = {
+      version: 2,
+      description: 'awaits a timer mid-step',
+      async run(db) {
+        db.createObjectStore('summaries', { keyPath: 'id' });
+        await new Promise((resolve) => setTimeout(resolve, 30));
+        db.createObjectStore('too-late');
+      },
+    };
+    const v1 = await rawOpen(factory, name, 1, (db) => createV1Layout(db));
+    v1.close();
+    await expect(openStore({ name, idbFactory: factory, migrations: [MIGRATIONS[0]!, sloppyV2] })).rejects.toMatchObject({
+      kind: 'upgrade-failed',
+    });
+  });
+
   it('refuses a database made by a newer version, clearly', async () => {
     const newer = await rawOpen(factory, name, DB_VERSION + 1, (db) => createV1Layout(db));
     newer.close();
