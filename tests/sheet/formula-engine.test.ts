@@ -308,26 +308,54 @@ describe('properties (fast-check)', () => {
     );
   });
 
-  it('compiling and evaluating any accepted formula stays under a time bound (100 ms compile, 5 ms evaluate; generous for a shared 2-core machine)', () => {
+  it('compiling and evaluating any formula stays under a time bound (best of 3: 20 ms compile, 1 ms evaluate)', () => {
+    // Best of three runs per formula, so a garbage-collection pause on the shared machine does not
+    // count as the formula's own cost.
+    const best = (f: () => void): number => {
+      let m = Infinity;
+      for (let k = 0; k < 3; k++) {
+        const a = performance.now();
+        f();
+        m = Math.min(m, performance.now() - a);
+      }
+      return m;
+    };
     let worstCompile = 0;
     let worstEval = 0;
     fc.assert(
       fc.property(fc.oneof(validFormula, tokenText), randomResolver, (text, values) => {
-        const a = performance.now();
+        worstCompile = Math.max(worstCompile, best(() => compileFormula(text)));
         const r = compileFormula(text);
-        const b = performance.now();
-        worstCompile = Math.max(worstCompile, b - a);
         if (!r.ok) return true;
         const resolve = mapResolver(values);
-        const c = performance.now();
-        for (let k = 0; k < 10; k++) r.formula.evaluate(resolve);
-        worstEval = Math.max(worstEval, (performance.now() - c) / 10);
+        worstEval = Math.max(worstEval, best(() => r.formula.evaluate(resolve)));
         return true;
       }),
       { numRuns: 500 },
     );
-    expect(worstCompile).toBeLessThan(100);
-    expect(worstEval).toBeLessThan(5);
+    expect(worstCompile).toBeLessThan(20);
+    expect(worstEval).toBeLessThan(1);
+  });
+
+  it('a negative number to a fractional power is quick and reports "not a number" (the mathjs real-root search took up to 40 ms here)', () => {
+    const r = compileFormula('pow(map, sbp) + map ^ sbp');
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    fc.assert(
+      fc.property(fc.double({ min: -1e4, max: -1e-3, noNaN: true }), fc.double({ min: -5, max: 5, noNaN: true }).filter((y) => !Number.isInteger(y)), (x, y) => {
+        const resolve = mapResolver({ map: x, sbp: y });
+        let best = Infinity;
+        let res: unknown;
+        for (let k = 0; k < 3; k++) {
+          const a = performance.now();
+          res = r.formula.evaluate(resolve);
+          best = Math.min(best, performance.now() - a);
+        }
+        expect(res).toMatchObject({ ok: false, error: expect.stringMatching(/not a number/) });
+        return best < 1;
+      }),
+      { numRuns: 300 },
+    );
   });
 
   it('the largest accepted formula still compiles and evaluates fast', () => {
