@@ -15,7 +15,6 @@ import {
 import { evaluate } from '../../src/goals/engine.js';
 import { GoalRegistry } from '../../src/goals/registry.js';
 import { EGDT } from '../../src/goals/sets/egdt.js';
-import { SSC2021_TARGETS } from '../../src/goals/sets/ssc2021-targets.js';
 import { deriveAll } from '../../src/sheet/derived.js';
 import type { Worksheet } from '../../src/sheet/model.js';
 import { MIN, T0, worksheet, type RowInput } from '../sheet/sheet-fixture.js';
