@@ -100,14 +100,17 @@ function atOf(o: CliOptions, io: CliIo): number {
   return Date.parse(t.time);
 }
 
-function setIdsOf(o: CliOptions, ws: Worksheet): string[] {
-  if (!o.sets) return worksheetSetIds(ws);
-  for (const id of o.sets) {
+function checkSets(o: CliOptions): void {
+  for (const id of o.sets ?? []) {
     if (id !== CUSTOM_SET_ID && !defaultRegistry.has(id)) {
       throw new BadInput({ file: '--sets', message: `unknown goal set "${id}"; known sets: ${[...defaultRegistry.ids(), CUSTOM_SET_ID].join(', ')}` });
     }
   }
-  return [...o.sets];
+}
+
+function setIdsOf(o: CliOptions, ws: Worksheet): string[] {
+  checkSets(o);
+  return o.sets ? [...o.sets] : worksheetSetIds(ws);
 }
 
 /**
@@ -198,16 +201,19 @@ function review(io: CliIo, folder: string, o: CliOptions): number {
   const names = io.listFolder(folder).filter((n) => REVIEW_EXT.test(n)).sort();
   if (names.length === 0) throw new BadInput({ file: folder, message: 'holds no .json or .csv files' });
   const perWorksheet: GoalStatus[][] = [];
+  // Remarks wait until every file has been read: bad input must give exactly one line.
+  const remarks: string[] = [];
   for (const name of names) {
     const path = join(folder, name);
     const loaded = loadWorksheets(path, readFile(io, path), facts.facts, io.nowMs());
     if (!loaded.ok) throw new BadInput(loaded.problem);
     for (const w of loaded.worksheets) {
       const tz = withTimeZero(w, atMs);
-      if (tz.remark) io.stderr(`${problemLine({ file: path, where: w.label, message: tz.remark })}\n`);
+      if (tz.remark) remarks.push(problemLine({ file: path, where: w.label, message: tz.remark }));
       perWorksheet.push(evaluate(tz.worksheet, setIdsOf(o, tz.worksheet), atMs));
     }
   }
+  for (const line of remarks) io.stderr(`${line}\n`);
   const report = reviewGoals(perWorksheet, new Date(atMs).toISOString());
   io.stdout(o.json ? `${JSON.stringify(report, null, 2)}\n` : reviewTable(report, folder));
   return EXIT_OK;
@@ -230,6 +236,8 @@ export function run(argv: readonly string[], io: CliIo = nodeIo): number {
       return EXIT_BAD_INPUT;
     }
     const { command, path, options: o } = args;
+    // Every option is checked before anything is written, so bad input gives exactly one line.
+    checkSets(o);
     if (command === 'review') return review(io, path, o);
     const { ws, atMs, remark, notes } = oneWorksheet(io, path, o);
     for (const n of notes) io.stderr(`tidemark: ${path}: ${n.replace(/\s+/g, ' ')}\n`);

@@ -13,7 +13,8 @@
  * Decisions:
  * - Columns are the measures with data, not the worksheet's visible columns: a hidden column
  *   that holds values must not vanish from an export, and an empty visible column adds nothing.
- * - Computed columns are prefixed `derived.` so that a derived key that is also a charted key
+ * - Computed columns (built-in derived measures, scores, the worksheet's own derived columns)
+ *   are prefixed `derived.` so that a derived key that is also a charted key
  *   (`map`: measured vs estimated) cannot collide, and so the reader can skip them (they are
  *   recomputed from the charted values, never imported).
  * - Formula injection (OWASP "CSV Injection"; OWASP ASVS 5.0 V1.2.10; CWE-1236): every text
@@ -29,7 +30,7 @@
  *
  * Pure: no DOM, no clock.
  */
-import { deriveWorksheet, DERIVED_DEFS } from '../sheet/derived.js';
+import { deriveAll, DERIVED_DEFS, SCORE_DEFS } from '../sheet/derived.js';
 import { MEASURE_KEYS, MEASURES } from '../sheet/measures.js';
 import type { Cell, Worksheet } from '../sheet/model.js';
 import { formatOffset } from '../sheet/time.js';
@@ -128,11 +129,6 @@ export function csvCell(cell: Cell | undefined): string {
 export interface CsvOptions {
   /** Include the computed columns (`derived.<key>`). Default true. */
   derived?: boolean;
-  /**
-   * Extra computed values per row (scores, user columns) keyed like deriveWorksheet's output, in
-   * the order given. Built-in derived measures are always computed here.
-   */
-  extraDerived?: { keys: readonly string[]; decimals?: Readonly<Record<string, number>>; rows: ReadonlyMap<string, Readonly<Record<string, number>>> };
 }
 
 /** Measure keys, in catalog order, that have a value in at least one row. */
@@ -153,15 +149,22 @@ function roundTo(value: number, decimals: number): number {
 export function worksheetToCsv(ws: Worksheet, options: CsvOptions = {}): string {
   const keys = chartedKeys(ws);
   const withDerived = options.derived ?? true;
-  const derivedRows = withDerived ? deriveWorksheet(ws) : [];
+  // Built-in derived measures, then scores (SOFA, qSOFA, SIRS), then the worksheet's own columns.
+  const derivedRows = withDerived ? deriveAll(ws).rows : [];
   const derivedById = new Map(derivedRows.map((d) => [d.rowId, d.values]));
-  const derivedKeys = withDerived
-    ? DERIVED_DEFS.filter((d) => derivedRows.some((r) => r.values[d.key] !== undefined))
-    : [];
-  const extra = withDerived ? options.extraDerived : undefined;
-  const extraKeys = extra ? extra.keys.filter((k) => [...extra.rows.values()].some((v) => v[k] !== undefined)) : [];
+  const candidates: { key: string; decimals?: number }[] = [
+    ...DERIVED_DEFS.map((d) => ({ key: d.key, decimals: d.decimals })),
+    ...SCORE_DEFS.map((d) => ({ key: d.key, decimals: d.decimals })),
+    ...ws.derivedColumns.map((c) => ({ key: c.key })),
+  ];
+  const seen = new Set<string>();
+  const derivedKeys = candidates.filter((c) => {
+    if (seen.has(c.key)) return false;
+    seen.add(c.key);
+    return derivedRows.some((r) => r.values[c.key] !== undefined && Number.isFinite(r.values[c.key]));
+  });
 
-  const header = ['time', ...keys, ...derivedKeys.map((d) => DERIVED_PREFIX + d.key), ...extraKeys.map((k) => DERIVED_PREFIX + k)];
+  const header = ['time', ...keys, ...derivedKeys.map((d) => DERIVED_PREFIX + d.key)];
   const lines = [header.map(escapeCsvField).join(',')];
   for (const row of ws.rows) {
     const fields = [csvTime(row.time, row.offset)];
@@ -169,14 +172,9 @@ export function worksheetToCsv(ws: Worksheet, options: CsvOptions = {}): string 
     const dv = derivedById.get(row.id) ?? {};
     for (const d of derivedKeys) {
       const v = dv[d.key];
-      // Derived values are rounded to one more decimal than they are shown with.
-      fields.push(v === undefined ? '' : numberField(roundTo(v, d.decimals + 1)));
-    }
-    const ev = extra?.rows.get(row.id) ?? {};
-    for (const k of extraKeys) {
-      const v = ev[k];
-      const dec = extra?.decimals?.[k];
-      fields.push(v === undefined || !Number.isFinite(v) ? '' : numberField(dec === undefined ? v : roundTo(v, dec + 1)));
+      // Built-in values are rounded to one more decimal than they are shown with; user columns
+      // keep 12 significant digits.
+      fields.push(v === undefined || !Number.isFinite(v) ? '' : numberField(d.decimals === undefined ? v : roundTo(v, d.decimals + 1)));
     }
     lines.push(fields.map(escapeCsvField).join(','));
   }
