@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { WorksheetSession, type CommitResult, type SessionStore } from '../../src/app/session.js';
+import { WorksheetSession, type SessionStore } from '../../src/app/session.js';
+import type { CommitResult } from '../../src/storage/store.js';
 import { FixedClock } from '../../src/sheet/clock.js';
 import type { Worksheet } from '../../src/sheet/model.js';
 import { Worksheet as WorksheetSchema } from '../../src/sheet/model.js';
@@ -20,9 +21,9 @@ class MemoryStore implements SessionStore {
       this.failNext = undefined;
       return r;
     }
-    if (this.stored.rev !== expectedRev) return { ok: false, reason: 'conflict', current: this.stored };
+    if (this.stored.rev !== expectedRev) return { ok: false, reason: 'conflict', message: 'changed elsewhere', current: this.stored };
     this.stored = change.worksheet;
-    return { ok: true };
+    return { ok: true, worksheet: change.worksheet };
   }
 }
 
