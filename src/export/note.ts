@@ -182,10 +182,10 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
   blank();
   para(`Worksheet: ${ws.label}`);
   const facts: string[] = [];
-  if (ws.weightKg !== undefined) facts.push(`weight ${round(ws.weightKg, 1)} kg`);
+  facts.push(ws.weightKg !== undefined ? `Weight ${round(ws.weightKg, 1)} kg` : 'Weight not charted');
   if (ws.heightCm !== undefined) facts.push(`height ${round(ws.heightCm, 1)} cm`);
-  if (ws.sex !== undefined) facts.push(ws.sex);
-  para(facts.length ? `Facts: ${facts.join(', ')}.` : 'Facts: no weight charted.');
+  if (ws.sex !== undefined) facts.push(`sex ${ws.sex}`);
+  para(`${facts.join('; ')}.`);
   if (weight) para(`Dosing weight: ${round(weight.kg, 1)} kg (${weight.explanation}).${weight.warning ? ` ${weight.warning}` : ''}`);
   if (ws.timeZero && t0Ms !== undefined) {
     const b = ws.timeZero.basis === 'other' ? `other (${ws.timeZero.reason ?? ''})` : ws.timeZero.basis;
@@ -196,7 +196,8 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
   if (options.timeZeroRemark) para(options.timeZeroRemark);
   const atIso = new Date(atMs).toISOString();
   para(`Summary as of: ${formatDateTime(atIso, offset)} ${formatOffset(offset)}${t0Ms !== undefined ? `, ${rel(atMs)}` : ''}.`);
-  para(`Times are local (UTC${formatOffset(offset)}).${rows.length < ws.rows.length ? ` Rows after the summary time are left out (${ws.rows.length - rows.length}).` : ''}`);
+  para(`Times are local (UTC${formatOffset(offset)}).`);
+  if (rows.length < ws.rows.length) para(`Left out: ${ws.rows.length - rows.length} rows timed after the summary.`);
 
   // --- goals --------------------------------------------------------------------------------
   // Time-bound goals first; standing targets (with their latest value) in their own section.
@@ -259,7 +260,14 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
   else fluidText += ' (no weight: mL/kg cannot be given)';
   para(`${fluidText}.`, '- ', '  ');
   if (charted('blood_ml')) para(`Blood products ${from}: ${Math.round(total('blood_ml'))} mL.`, '- ', '  ');
-  if (charted('uo_ml')) para(`Urine ${from}: ${Math.round(total('uo_ml'))} mL.`, '- ', '  ');
+  if (charted('uo_ml')) {
+    // Urine is charted per interval: say which stretch of time the sum covers.
+    const idx = rows.map((r, i) => (since(r) && num(r, 'uo_ml') !== undefined ? i : -1)).filter((i) => i >= 0);
+    const first = idx[0]!;
+    const startMs = first > 0 ? Date.parse(rows[first - 1]!.time) : undefined;
+    const span = `${startMs !== undefined ? timeText(startMs) : 'start'}-${timeText(Date.parse(rows[idx[idx.length - 1]!]!.time))}`;
+    para(`Urine charted ${from}: ${Math.round(total('uo_ml'))} mL (intervals ${span}).`, '- ', '  ');
+  }
 
   // --- vasopressors -------------------------------------------------------------------------
   heading('Vasopressors');
@@ -275,10 +283,18 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
       .filter((k) => (num(peak!.row, k) ?? 0) > 0)
       .map((k) => `${MEASURES.get(k)!.label.toLowerCase()} ${measureText(k, num(peak!.row, k)!)}`);
     para(
-      `Peak dose: ${round(peak.v, 3)} ug/kg/min norepinephrine equivalent at ${timeText(Date.parse(peak.row.time))} (${parts.join(' + ')}; factors of Goradia et al. 2021).`,
+      `Peak dose: ${round(peak.v, 3)} ug/kg/min norepinephrine equivalent, first reached at ${timeText(Date.parse(peak.row.time))} (${parts.join(' + ')}; factors of Goradia et al. 2021).`,
       '- ',
       '  ',
     );
+    // What runs at the summary time: the last charted rate of each drug, when above zero.
+    const running: string[] = [];
+    for (const key of ['norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'dobutamine', 'vasopressin']) {
+      const last = [...rows].reverse().find((r) => num(r, key) !== undefined);
+      const v = last ? num(last, key)! : 0;
+      if (last && v > 0) running.push(`${MEASURES.get(key)!.label.toLowerCase()} ${measureText(key, v)} (charted ${timeText(Date.parse(last.time))})`);
+    }
+    para(running.length ? `Running at the summary time: ${running.join(', ')}.` : 'None running at the summary time.', '- ', '  ');
   }
 
   // --- timeline -----------------------------------------------------------------------------
@@ -297,8 +313,10 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
   if (t0Ms !== undefined && ws.timeZero) events.push({ ms: t0Ms, text: `TIME ZERO (${ws.timeZero.basis})` });
   const lastRate = new Map<string, number>();
   let runningFluid = 0;
-  for (const r of rows) {
+  rows.forEach((r, i) => {
     const ms = Date.parse(r.time);
+    // Volumes are amounts since the previous row (design.md): show the interval they cover.
+    const interval = i > 0 ? `${timeText(Date.parse(rows[i - 1]!.time))}-${timeText(ms)}` : `up to ${timeText(ms)}`;
     const add = (text: string, keys: readonly string[]): void => {
       events.push({ ms, text: text + lateMark(r, keys) });
     };
@@ -313,10 +331,10 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
     const fl = num(r, 'fluid_ml');
     if (fl !== undefined) {
       if (since(r)) runningFluid += fl;
-      add(`Crystalloid ${Math.round(fl)} mL${since(r) ? ` (${Math.round(runningFluid)} mL ${t0Ms === undefined ? 'in all' : 'since time zero'})` : ' (before time zero)'}`, ['fluid_ml']);
+      add(`Crystalloid ${Math.round(fl)} mL over ${interval}${since(r) ? ` (${Math.round(runningFluid)} mL ${t0Ms === undefined ? 'in all' : 'since time zero'})` : ' (before time zero)'}`, ['fluid_ml']);
     }
     const bl = num(r, 'blood_ml');
-    if (bl !== undefined) add(`Blood product ${Math.round(bl)} mL`, ['blood_ml']);
+    if (bl !== undefined) add(`Blood product ${Math.round(bl)} mL over ${interval}`, ['blood_ml']);
     for (const key of ['norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'dobutamine', 'vasopressin']) {
       const v = num(r, key);
       if (v === undefined) continue;
@@ -330,7 +348,7 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
     const lac = num(r, 'lactate');
     if (lac !== undefined) add(`Lactate ${measureText('lactate', lac)}`, ['lactate']);
     mark('perfusion_reassessed', 'Perfusion reassessed');
-  }
+  });
   events.sort((a, b) => a.ms - b.ms);
   if (events.length === 0) para('Nothing charted.');
   for (const e of events) {

@@ -6,10 +6,10 @@
 import { copyFileSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { DEMO_LABEL, demoWorksheet } from '../../src/app/demo-scenario.js';
 import { readWorksheetCsv, worksheetFromCsvRows } from '../../src/export/csv-read.js';
 import { statusReport, worksheetSetIds } from '../../src/goals/index.js';
-import { at } from '../export/fixture.js';
-import { fixtureWorksheet } from '../export/fixture.js';
+import { at, fixtureWorksheet } from '../export/fixture.js';
 import { FIXTURES, caseWorksheet, runCli, spawnCli, tempDir, writeBackup } from './helpers.js';
 
 const SPAWN_TIMEOUT = 240_000;
@@ -20,12 +20,18 @@ const BED12_TEXT = readFileSync(BED12, 'utf8');
 
 type Report = { timeZero: string | null; at: string; goals: { id: string; status: string; metAt: string | null; minutesFromTimeZero: number | null; deadline: string | null }[] };
 const goal = (r: Report, id: string) => r.goals.find((g) => g.id === id);
+/** The demo at a fixed moment: time zero 09:00 +01:00, 130 min before 11:10 +01:00. */
+const DEMO_NOW = Date.parse('2026-03-01T10:10:00Z');
+function demo() {
+  let n = 0;
+  return demoWorksheet(DEMO_NOW, () => `demo-${++n}`, 60);
+}
 
 let dir = '';
 let backupPath = '';
 beforeAll(() => {
   dir = tempDir();
-  backupPath = writeBackup(dir, 'bed7.json', [fixtureWorksheet()]);
+  backupPath = writeBackup(dir, 'notebook.json', [fixtureWorksheet(), demo()]);
 });
 
 describe('child process: status --json', () => {
@@ -57,16 +63,19 @@ describe('child process: status --json', () => {
     expect(report).toEqual(statusReport(built.worksheet, worksheetSetIds(built.worksheet), AT_MS));
   });
 
-  it('reads a JSON backup and gives the goal engine statuses', { timeout: SPAWN_TIMEOUT }, () => {
-    const r = spawnCli(['status', backupPath, '--at', '2026-03-01T11:00+01:00', '--json']);
+  it('reads a JSON backup (the demo worksheet, picked by --label) and gives the goal engine statuses', { timeout: SPAWN_TIMEOUT }, () => {
+    const r = spawnCli(['status', backupPath, '--label', DEMO_LABEL, '--at', '2026-03-01T11:10+01:00', '--json']);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     const report = JSON.parse(r.stdout) as Report;
-    const ws = fixtureWorksheet();
-    expect(report).toEqual(statusReport(ws, worksheetSetIds(ws), Date.parse('2026-03-01T10:00:00Z')));
-    // Antibiotic at 08:25 after time zero 08:00 (tests/export/fixture.ts): 25 min, within 1 h and 3 h.
-    expect(goal(report, 'sep1.antibiotics')).toMatchObject({ status: 'met', minutesFromTimeZero: 25 });
-    expect(goal(report, 'ssc-hour1.antibiotics')).toMatchObject({ status: 'met', minutesFromTimeZero: 25 });
+    const ws = demo();
+    // Same statuses as the goal engine, for every goal of the demo's sets.
+    expect(report).toEqual(statusReport(ws, worksheetSetIds(ws), DEMO_NOW));
+    expect(report.goals.length).toBeGreaterThan(10);
+    // Demo course (src/app/demo-scenario.ts): antibiotic 75 min after time zero: within SEP-1's
+    // 3 h (reference file §3b) but past the hour-1 bundle's 1 h (reference file §2).
+    expect(goal(report, 'sep1.antibiotics')).toMatchObject({ status: 'met', minutesFromTimeZero: 75 });
+    expect(goal(report, 'ssc-hour1.antibiotics')).toMatchObject({ status: 'missed', minutesFromTimeZero: 75 });
   });
 });
 
@@ -174,6 +183,16 @@ describe('in-process: inputs and errors', () => {
     expect(r.code).toBe(2);
     expect(r.stderr.trim().split('\n')).toHaveLength(1);
     expect(r.stderr).toMatch(/^tidemark: bad\.json: worksheets\[0\]\.rows\[1\]\.time: /);
+  });
+
+  it('reads a backup of the fixture worksheet with the engine statuses (in-process)', () => {
+    const text = readFileSync(writeBackup(dir, 'bed7.json', [fixtureWorksheet()]), 'utf8');
+    const r = runCli(['status', 'bed7.json', '--at', '2026-03-01T11:00+01:00', '--json'], { 'bed7.json': text });
+    expect(r.code).toBe(0);
+    const ws = fixtureWorksheet();
+    expect(JSON.parse(r.stdout)).toEqual(statusReport(ws, worksheetSetIds(ws), Date.parse('2026-03-01T10:00:00Z')));
+    // Antibiotic at 08:25 after time zero 08:00 (tests/export/fixture.ts): 25 min, within 1 h.
+    expect(goal(JSON.parse(r.stdout) as Report, 'ssc-hour1.antibiotics')).toMatchObject({ status: 'met', minutesFromTimeZero: 25 });
   });
 
   it('status --sets limits the goals to the sets asked for', () => {

@@ -6,6 +6,7 @@
 import type { Bundle, FhirResource, MedicationAdministration, Observation } from 'fhir/r4';
 import { describe, expect, it } from 'vitest';
 import { LOCAL_MEASURE_SYSTEM, LOINC, LOINC_BODY, stableUuid, worksheetToFhir } from '../../src/export/fhir.js';
+import { demoWorksheet } from '../../src/app/demo-scenario.js';
 import { MEASURES } from '../../src/sheet/measures.js';
 import { fhirProblems } from './fhir-validate.js';
 import { fixtureWorksheet } from './fixture.js';
@@ -195,5 +196,39 @@ describe('worksheetToFhir on the fixture', () => {
     const lac = observations(worksheetToFhir(fixed, { atMs })).find((o) => o.code.coding?.[0]?.code === '32693-4');
     expect(lac?.status).toBe('amended');
     expect(lac?.valueQuantity?.value).toBe(4.4);
+  });
+});
+
+describe('worksheetToFhir on the demo worksheet', () => {
+  const now = Date.parse('2026-03-01T10:10:00Z');
+  let n = 0;
+  const ws = demoWorksheet(now, () => `demo-${++n}`, 60);
+  const bundle = worksheetToFhir(ws, { atMs: now });
+
+  it('passes the FHIR R4 validator', () => {
+    expect(fhirProblems(bundle)).toEqual([]);
+    for (const r of resources(bundle)) expect(fhirProblems(r), r.resourceType).toEqual([]);
+  });
+
+  it('is tagged as invented demo data', () => {
+    expect(bundle.meta?.tag?.[0]?.code).toBe('fictional-demo');
+  });
+
+  it('holds every charted number of the demo, coded, with the demo time zero', () => {
+    // One observation (or a BP panel component) per charted number that is not a drug or a volume given.
+    const numbers = ws.rows.flatMap((r) => Object.entries(r.cells)
+      .filter(([k, c]) => typeof c.value === 'number' && !['fluid_ml', 'blood_ml', 'norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'dobutamine', 'vasopressin'].includes(k)));
+    const charted = observations(bundle).filter((o) => !o.derivedFrom && !o.method && o.effectiveDateTime !== undefined && (o.valueQuantity || o.component));
+    const count = charted.reduce((s, o) => s + (o.component ? o.component.length : 1), 0);
+    // + weight and height observations.
+    expect(count).toBe(numbers.length + 2);
+    const t0 = observations(bundle).find((o) => o.code.coding?.[0]?.code === 'time-zero');
+    expect(t0?.valueDateTime).toBe('2026-03-01T09:00:00+01:00');
+    // Antibiotic and norepinephrine (three charted rates: 0.05, 0.08, 0.08).
+    expect(administrations(bundle).filter((m) => m.medicationCodeableConcept?.text === 'piperacillin-tazobactam 4.5 g IV')).toHaveLength(1);
+    expect(administrations(bundle).filter((m) => m.medicationCodeableConcept?.text === 'Norepinephrine').map((m) => m.dosage?.rateQuantity?.value)).toEqual([0.05, 0.08, 0.08]);
+    // Crystalloid 500 + 600 + 1000 mL = 2100 mL = 30 mL/kg x 70 kg (reference file §16).
+    const fluids = administrations(bundle).filter((m) => m.medicationCodeableConcept?.text === 'Crystalloid');
+    expect(fluids.reduce((s, m) => s + (m.dosage?.dose?.value ?? 0), 0)).toBe(2100);
   });
 });
