@@ -241,7 +241,7 @@ const validFormula: fc.Arbitrary<string> = fc.letrec<{ e: string }>((tie) => ({
 
 const randomResolver = fc.dictionary(fc.constantFrom('map', 'lactate', 'sbp', 'hr', 'weight', 'sofa', 'uo_ml'), fc.double({ min: -1e6, max: 1e6, noNaN: true }));
 
-describe('properties (fast-check)', () => {
+describe('properties (fast-check)', { timeout: 60_000 }, () => {
   it('any text either compiles or returns an error message; compile never throws', () => {
     fc.assert(
       fc.property(fc.oneof(fc.string({ maxLength: 120 }), fc.string({ unit: 'grapheme', maxLength: 80 }), tokenText, spacedTokenText), (text) => {
