@@ -94,8 +94,9 @@ export function clockText(ctx: EvalContext, ms: number): string {
   return day === t0Day ? formatClock(iso, ctx.offset) : formatDateTime(iso, ctx.offset);
 }
 
-/** "75 min", "2 h 5 min" (exact duration between instants). */
+/** "75 min" → "1 h 15 min", "1 h" (whole hours), "2 h 5 min": an exact duration between instants. */
 export function durationText(ms: number): string {
+  if (ms > 0 && ms % 3_600_000 === 0 && ms < 86_400_000) return `${ms / 3_600_000} h`;
   return formatDuration(ms);
 }
 
@@ -113,7 +114,9 @@ export function keyName(key: string): string {
 export function keyWord(key: string): string {
   const name = keyName(key);
   const rest = name.slice(1);
-  return rest === rest.toLowerCase() ? name.charAt(0).toLowerCase() + rest : name;
+  if (rest !== rest.toLowerCase()) return name; // MAP, ScvO₂, CRT: keep as written
+  const label = MEASURES.get(key)?.label ?? DERIVED.get(key)?.label ?? name;
+  return label.charAt(0).toLowerCase() + label.slice(1); // Hct → hematocrit, Temp → temperature
 }
 
 /** A noun for a measure in a sentence: "lactate", "MAP"; derived measures by their label ("urine output rate"). */
@@ -144,6 +147,7 @@ function decimalsOf(key: string): number {
 export function valueText(key: string, v: number): string {
   const rounded = Number(v.toFixed(decimalsOf(key)));
   const unit = keyUnit(key);
+  if (unit === '%') return `${rounded}%`;
   return unit ? `${rounded} ${unit}` : String(rounded);
 }
 

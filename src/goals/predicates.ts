@@ -163,7 +163,7 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
       if (!ctx.weight) return unknown('no weight, so the per-kg volume cannot be worked out');
       const v = volumeProgress(ctx, p.key, p.mlPerKg, p.lookbackMinutes);
       if (v.reached) {
-        return yes(v.reached.ms, v.rowIds, `${p.mlPerKg} mL/kg (${mlText(v.targetMl!)}) complete at ${clockText(ctx, v.reached.ms)}`);
+        return yes(v.reached.ms, v.rowIds, `${p.mlPerKg} mL/kg (${mlText(v.targetMl!)}) was complete at ${clockText(ctx, v.reached.ms)}`);
       }
       return no(`${p.mlPerKg} mL/kg not complete (${mlText(v.givenMl)} of ${mlText(v.targetMl!)})`, v.rowIds);
     }

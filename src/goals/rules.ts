@@ -72,6 +72,8 @@ export interface RuleFacts {
   /** For targets: in range now. Event goals hold once done. */
   holdsNow: boolean;
   text: string;
+  /** Extra words put after the timing in the explanation (volume progress, what counted). */
+  detail?: string;
   supportRowIds: string[];
   failRowIds: string[];
   target?: TargetInfo;
@@ -120,7 +122,7 @@ export function targetRangeText(key: string, test: TargetTest): string {
     return test.minDropPct > 0 ? `≥ ${test.minDropPct}% below the first value` : 'below the first value';
   }
   const unit = keyUnit(key);
-  const u = unit ? ` ${unit}` : '';
+  const u = unit === '%' ? '%' : unit ? ` ${unit}` : '';
   if (test.min !== undefined && test.max !== undefined) return `${test.min}–${test.max}${u}`;
   if (test.min !== undefined) return `≥ ${test.min}${u}`;
   if (test.max !== undefined) return `≤ ${test.max}${u}`;
@@ -139,14 +141,15 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
           return { holdsNow: false, text: `${capital(rule.event)} counts only after this: ${p.text}`, supportRowIds: [], failRowIds: [] };
         }
         from = Math.max(from, p.sinceMs!);
-        after = ` (counting from ${clockText(ctx, p.sinceMs!)}: ${p.text})`;
+        after = `counts only after this: ${p.text}`;
       }
       const hit = firstWith(ctx, from, rule.keys, rule.op, rule.value);
-      if (!hit) return { holdsNow: false, text: `No ${rule.event} charted yet${after}`, supportRowIds: [], failRowIds: [] };
+      if (!hit) return { holdsNow: false, text: `No ${rule.event} charted yet${after ? ` (${after})` : ''}`, supportRowIds: [], failRowIds: [] };
       return {
         doneMs: hit.r.ms,
         holdsNow: true,
-        text: `${capital(rule.event)} at ${clockText(ctx, hit.r.ms)}${cellDetail(ctx, hit.r, hit.key, rule.keys.length > 1)}${after}`,
+        text: `${capital(rule.event)} at ${clockText(ctx, hit.r.ms)}${cellDetail(ctx, hit.r, hit.key, rule.keys.length > 1)}`,
+        ...(after ? { detail: after } : {}),
         supportRowIds: [hit.r.row.id],
         failRowIds: [],
       };
@@ -193,28 +196,27 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
         weightBasis: w?.basis ?? null,
         weightExplanation: w ? w.explanation : null,
       };
-      const perKg = w
-        ? `${rule.mlPerKg} mL/kg × ${Number(w.kg.toFixed(1))} kg (${w.explanation}) = ${mlText(v.targetMl!)}`
-        : `${rule.mlPerKg} mL/kg`;
+      const basis = w ? `${rule.mlPerKg} mL/kg × ${Number(w.kg.toFixed(1))} kg, ${w.explanation}` : `${rule.mlPerKg} mL/kg`;
+      const progress = w ? `${mlText(v.givenMl)} of ${mlText(v.targetMl!)} (${basis})` : `${mlText(v.givenMl)} so far; no weight for the per-kg volume`;
       if (rule.satisfiedBy === 'completed') {
         if (!w) return { noData: `No weight, so ${rule.mlPerKg} mL/kg cannot be worked out`, holdsNow: false, text: `No weight, so ${rule.mlPerKg} mL/kg cannot be worked out`, supportRowIds: [], failRowIds: [], volume };
         if (v.reached) {
           return {
             doneMs: v.reached.ms,
             holdsNow: true,
-            text: `${perKg} reached at ${clockText(ctx, v.reached.ms)} (${mlText(v.givenMl)} charted)`,
+            text: `${rule.mlPerKg} mL/kg reached at ${clockText(ctx, v.reached.ms)}`,
+            detail: progress,
             supportRowIds: v.rowIds,
             failRowIds: [],
             volume,
           };
         }
-        return { holdsNow: false, text: `${mlText(v.givenMl)} of ${perKg} charted so far`, supportRowIds: [], failRowIds: [], volume };
+        return { holdsNow: false, text: `${progress} charted so far`, supportRowIds: [], failRowIds: [], volume };
       }
       if (v.first) {
-        const so = w ? ` (${mlText(v.givenMl)} so far of ${perKg})` : ` (${mlText(v.givenMl)} so far; no weight for the per-kg volume)`;
-        return { doneMs: v.first.ms, holdsNow: true, text: `Crystalloid started by ${clockText(ctx, v.first.ms)}${so}`, supportRowIds: [v.first.row.id], failRowIds: [], volume };
+        return { doneMs: v.first.ms, holdsNow: true, text: `Crystalloid started by ${clockText(ctx, v.first.ms)}`, detail: `${progress} so far`, supportRowIds: [v.first.row.id], failRowIds: [], volume };
       }
-      return { holdsNow: false, text: `No crystalloid charted yet (${perKg})`, supportRowIds: [], failRowIds: [], volume };
+      return { holdsNow: false, text: `No crystalloid charted yet (target ${w ? mlText(v.targetMl!) : `${rule.mlPerKg} mL/kg`})`, supportRowIds: [], failRowIds: [], volume };
     }
 
     case 'repeat-value-within': {

@@ -115,6 +115,8 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
     out.deadlineText = deadline.text;
   }
   const due = deadline ? `due by ${clockText(ctx, deadline.ms)} (${deadline.text})` : '';
+  const detail = facts.detail ? `; ${facts.detail}` : '';
+  const dl = deadline ? `deadline ${clockText(ctx, deadline.ms)}, ${deadline.text}` : '';
   const setDone = (ms: number): void => {
     out.metAt = toInstant(ms);
     out.minutesFromTimeZero = minutesBetween(ctx.t0Ms, ms);
@@ -129,7 +131,7 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
     out.status = 'missed';
     if (facts.doneMs !== undefined) setDone(facts.doneMs);
     if (deadline && ctx.atMs > deadline.ms) out.minutesOverdue = minutesBetween(deadline.ms, ctx.atMs);
-    out.explanation = sentence(facts.text);
+    out.explanation = sentence(`${facts.text}${detail}`);
     return out;
   }
   const done = facts.doneMs;
@@ -138,12 +140,12 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
     if (facts.holdsNow) {
       out.status = 'met';
       const when = facts.target ? '' : `, ${relToT0(ctx, done)}`;
-      out.explanation = sentence(`${facts.text}${when}${deadline && !facts.target ? `; within the deadline (${clockText(ctx, deadline.ms)}, ${deadline.text})` : ''}`);
+      out.explanation = sentence(`${facts.text}${when}${detail}${deadline && !facts.target ? `; in time (${dl})` : ''}`);
       return out;
     }
     out.status = 'pending';
     if (deadline && ctx.atMs <= deadline.ms) out.minutesLeft = minutesBetween(ctx.atMs, deadline.ms);
-    out.explanation = sentence(`${facts.text}; first reached at ${clockText(ctx, done)}`);
+    out.explanation = sentence(`${facts.text}; first reached at ${clockText(ctx, done)}${detail}`);
     return out;
   }
   if (deadline && ctx.atMs > deadline.ms) {
@@ -153,19 +155,19 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
       setDone(done);
       out.late = true;
       out.minutesLate = minutesBetween(deadline.ms, done);
-      out.explanation = sentence(`${facts.text}, ${relToT0(ctx, done)}: ${durationText(done - deadline.ms)} late (${due})`);
+      out.explanation = sentence(`${facts.text}, ${relToT0(ctx, done)}: ${durationText(done - deadline.ms)} late (${dl})${detail}`);
       if (!facts.target) out.failRowIds = [...new Set([...out.failRowIds, ...out.supportRowIds])];
     } else {
-      out.explanation = sentence(`${facts.text}; ${due}, now ${durationText(ctx.atMs - deadline.ms)} overdue`);
+      out.explanation = sentence(`${facts.text}${detail}; ${due}, now ${durationText(ctx.atMs - deadline.ms)} overdue`);
     }
     return out;
   }
   out.status = 'pending';
   if (deadline) {
     out.minutesLeft = minutesBetween(ctx.atMs, deadline.ms);
-    out.explanation = sentence(`${facts.text}; ${due}, ${durationText(deadline.ms - ctx.atMs)} left`);
+    out.explanation = sentence(`${facts.text}${detail}; ${due}, ${durationText(deadline.ms - ctx.atMs)} left`);
   } else {
-    out.explanation = sentence(facts.text);
+    out.explanation = sentence(`${facts.text}${detail}`);
   }
   return out;
 }
