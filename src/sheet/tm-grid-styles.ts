@@ -199,7 +199,6 @@ export const gridStyles = css`
     font-size: 0.75rem;
     font-style: italic;
     color: var(--tm-ink-soft);
-    margin-left: 0.2rem;
   }
 
   /* Status words under a value: flagged, saving, not saved. */

@@ -667,12 +667,12 @@ export class TmGrid extends LitElement {
     return html`<thead>
       <tr role="row" aria-rowindex="1">
         <th role="columnheader" scope="col" aria-colindex="1" class="time" title="Time of the row, in the worksheet's time zone offset">
-          <span class="short">Time</span><span class="unit">UTC${formatOffset(ws.displayOffset)}</span>
+          <span class="short">Time</span> <span class="unit">UTC${formatOffset(ws.displayOffset)}</span>
         </th>
         ${this.cols.map((col, i) => {
           const calc = col.kind !== 'measure';
           return html`<th role="columnheader" scope="col" aria-colindex=${i + 2} title=${this.headerTitle(col)}>
-            <span class="short">${columnLabel(col)}</span><span class="unit">${this.unitOf(col)}${calc ? html` <span class="calc-mark">calc</span>` : nothing}</span>
+            <span class="short">${columnLabel(col)}</span> <span class="unit">${this.unitOf(col)}${calc ? html` <span class="calc-mark">calc</span>` : nothing}</span>
           </th>`;
         })}
       </tr>
@@ -724,7 +724,7 @@ export class TmGrid extends LitElement {
     >
       ${editing
         ? this.renderEditor(`Time of the row at ${clock}`, 0)
-        : html`${highlighted ? html`<span class="hl-mark" aria-hidden="true">◆</span>` : nothing}<span class="v">${clock}</span>${day ? html`<span class="day">${day}</span>` : nothing}${highlighted ? html`<span class="sr"> (highlighted)</span>` : nothing}`}
+        : html`${highlighted ? html`<span class="hl-mark" aria-hidden="true">◆</span>` : nothing}<span class="v">${clock}</span>${day ? html` <span class="day">${day}</span>` : nothing}${highlighted ? html`<span class="sr"> (highlighted)</span>` : nothing}`}
       ${this.renderNote(row.id, TIME_COL, 0)}
     </th>`;
   }
@@ -733,11 +733,11 @@ export class TmGrid extends LitElement {
     const cell = row.cells[col.key];
     const estimate = !cell && col.estimate ? this.derivedByRow.get(row.id)?.[col.key] : undefined;
     if (estimate !== undefined) {
-      return html`<span class="v est">${formatNumber(col.def, estimate, this.displayUnit(col.key))}</span><span class="est-mark">est.</span>`;
+      return html`<span class="v est">${formatNumber(col.def, estimate, this.displayUnit(col.key))}</span> <span class="est-mark">est.</span>`;
     }
     const flag = cell?.flag;
     return html`<span class="v">${formatCell(col.key, cell, this.displayUnit(col.key))}</span>${flag
-      ? html`<span class="badge flag">${flag === 'high' ? '↑ high' : '↓ low'}</span>`
+      ? html` <span class="badge flag">${flag === 'high' ? '↑ high' : '↓ low'}</span>`
       : nothing}`;
   }
 
@@ -777,8 +777,8 @@ export class TmGrid extends LitElement {
         : measure
           ? this.renderMeasureValue(row, col)
           : this.renderCalcValue(row, col)}
-      ${pending === 'saving' ? html`<span class="badge saving">◌ saving</span>` : nothing}
-      ${pending === 'failed' ? html`<span class="badge failed">✕ not saved</span>` : nothing}
+      ${pending === 'saving' ? html` <span class="badge saving">◌ saving</span>` : nothing}
+      ${pending === 'failed' ? html` <span class="badge failed">✕ not saved</span>` : nothing}
       ${this.renderNote(row.id, col.key, colIndex)}
     </td>`;
   }
