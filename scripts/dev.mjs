@@ -1,5 +1,5 @@
 #!/usr/bin/env node
-// `npm start`: serves the app with @web/dev-server (config: web-dev-server.config.mjs) on port
+// `npm run dev`: serves the unbundled sources with @web/dev-server (live reload; slow first load) (config: web-dev-server.config.mjs) on port
 // 8000, or the next free port (set PORT to choose another start). Does not open a browser.
 import { createServer } from 'node:net';
 import { fileURLToPath } from 'node:url';
@@ -36,7 +36,7 @@ const server = await startDevServer({
   logStartMessage: false,
 });
 
-console.log(`Tidemark is running at http://localhost:${port}/ — press Ctrl+C to stop`);
+console.log(`Tidemark (development server) is running at http://localhost:${port}/ — press Ctrl+C to stop`);
 
 process.on('SIGTERM', async () => {
   await server.stop();

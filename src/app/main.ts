@@ -3,12 +3,17 @@
  * mounts <tm-app> with the device clock. The only place the app picks the real clock and the real
  * IndexedDB.
  */
+import { z } from 'zod';
 import { systemClock } from '../sheet/clock.js';
 import { openStore, requestPersistence, StoreError } from '../storage/store.js';
 import { demoWorksheet } from './demo-scenario.js';
 import './tm-app.js';
 
 const SEEDED = 'demoSeeded';
+
+// zod would otherwise probe for eval (new Function) to speed up parsing; the page's
+// Content-Security-Policy forbids eval, so the probe only produces console errors.
+z.config({ jitless: true });
 
 async function start(): Promise<void> {
   const app = document.createElement('tm-app');
@@ -37,4 +42,24 @@ async function start(): Promise<void> {
   }
 }
 
+/**
+ * Registers the service worker of the production build (served as assets/app.js next to sw.js),
+ * through a Trusted Types policy that allows only that one script URL.
+ */
+function registerServiceWorker(): void {
+  if (!('serviceWorker' in navigator) || !new URL(import.meta.url).pathname.endsWith('/assets/app.js')) return;
+  const tt = (globalThis as { trustedTypes?: { createPolicy(n: string, p: { createScriptURL(u: string): string }): { createScriptURL(u: string): string } } }).trustedTypes;
+  const policy = tt?.createPolicy('tidemark-sw', {
+    createScriptURL: (u) => {
+      if (u !== './sw.js') throw new TypeError(`Refused script URL ${u}`);
+      return u;
+    },
+  });
+  const url = policy ? policy.createScriptURL('./sw.js') : './sw.js';
+  navigator.serviceWorker.register(url as string, { scope: './' }).catch(() => {
+    // Offline use after the first visit needs the worker; the app works online without it.
+  });
+}
+
 void start();
+registerServiceWorker();

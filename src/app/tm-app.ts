@@ -244,6 +244,7 @@ export class TmApp extends LitElement {
   override connectedCallback(): void {
     super.connectedCallback();
     this.addEventListener('keydown', this.onKey);
+    this.tick();
   }
 
   override disconnectedCallback(): void {
@@ -252,10 +253,6 @@ export class TmApp extends LitElement {
     this.unsubscribe?.();
     this.unwatch?.();
     if (this.timer) clearTimeout(this.timer);
-  }
-
-  protected override firstUpdated(): void {
-    this.tick();
   }
 
   protected override updated(changed: Map<PropertyKey, unknown>): void {

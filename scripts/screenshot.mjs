@@ -1,0 +1,28 @@
+#!/usr/bin/env node
+// Takes a headless-Chromium screenshot of a running Tidemark page, for looking at what we build.
+// Usage: node scripts/screenshot.mjs URL OUT.png [width] [height] [--wait=ms]
+// Uses playwright-core with the installed Chromium (never downloads a browser).
+import { chromium } from 'playwright-core';
+import { findChrome } from './find-chrome.mjs';
+
+const [url, out, w = '1600', h = '1000'] = process.argv.slice(2).filter((a) => !a.startsWith('--'));
+const wait = Number((process.argv.find((a) => a.startsWith('--wait=')) ?? '--wait=4000').slice(7));
+if (!url || !out) {
+  console.error('Usage: node scripts/screenshot.mjs URL OUT.png [width] [height] [--wait=ms]');
+  process.exit(2);
+}
+const browser = await chromium.launch({
+  executablePath: findChrome(),
+  headless: true,
+  args: ['--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'],
+});
+const page = await browser.newPage({ viewport: { width: Number(w), height: Number(h) } });
+page.on('pageerror', (e) => console.error('page error:', e.message));
+page.on('console', (m) => {
+  if (m.type() === 'error' || m.type() === 'warning') console.error(`console ${m.type()}:`, m.text());
+});
+await page.goto(url, { waitUntil: 'load', timeout: 180_000 });
+await page.waitForTimeout(wait);
+await page.screenshot({ path: out, fullPage: true });
+await browser.close();
+console.log(`saved ${out}`);

@@ -1,0 +1,48 @@
+#!/usr/bin/env node
+// Serves dist/ (the production build) on localhost with the app's Content-Security-Policy as an
+// HTTP header. Any static web server can host dist/; this one is for `npm start` and the tests.
+import { createServer } from 'node:http';
+import { readFile, stat } from 'node:fs/promises';
+import { extname, join, normalize } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { CSP } from './build.mjs';
+
+const TYPES = {
+  '.html': 'text/html; charset=utf-8',
+  '.js': 'text/javascript; charset=utf-8',
+  '.json': 'application/json',
+  '.webmanifest': 'application/manifest+json',
+  '.txt': 'text/plain; charset=utf-8',
+  '.png': 'image/png',
+  '.svg': 'image/svg+xml',
+};
+
+/** Starts a static server for `dir`; resolves with the server and its port. */
+export function serveDist({ dir = fileURLToPath(new URL('../dist/', import.meta.url)), port = 0 } = {}) {
+  const server = createServer(async (req, res) => {
+    try {
+      const path = decodeURIComponent(new URL(req.url ?? '/', 'http://x').pathname);
+      let file = normalize(join(dir, path));
+      if (!file.startsWith(normalize(dir))) {
+        res.writeHead(403).end();
+        return;
+      }
+      if ((await stat(file).catch(() => null))?.isDirectory()) file = join(file, 'index.html');
+      const body = await readFile(file);
+      res.writeHead(200, {
+        'Content-Type': TYPES[extname(file)] ?? 'application/octet-stream',
+        'Content-Security-Policy': CSP,
+        'X-Content-Type-Options': 'nosniff',
+        'Referrer-Policy': 'no-referrer',
+        'Cache-Control': 'no-cache',
+      });
+      res.end(body);
+    } catch {
+      res.writeHead(404, { 'Content-Type': 'text/plain' }).end('Not found');
+    }
+  });
+  return new Promise((resolve, reject) => {
+    server.once('error', reject);
+    server.listen(port, '127.0.0.1', () => resolve({ server, port: server.address().port }));
+  });
+}
