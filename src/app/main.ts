@@ -3,7 +3,7 @@
  * mounts <tm-app> with the device clock. The only place the app picks the real clock and the real
  * IndexedDB.
  */
-import { z } from 'zod';
+import './zod-setup.js';
 import { systemClock } from '../sheet/clock.js';
 import { openStore, requestPersistence, StoreError } from '../storage/store.js';
 import { demoWorksheet } from './demo-scenario.js';
@@ -11,9 +11,6 @@ import './tm-app.js';
 
 const SEEDED = 'demoSeeded';
 
-// zod would otherwise probe for eval (new Function) to speed up parsing; the page's
-// Content-Security-Policy forbids eval, so the probe only produces console errors.
-z.config({ jitless: true });
 
 async function start(): Promise<void> {
   const app = document.createElement('tm-app');
