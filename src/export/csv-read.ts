@@ -22,6 +22,7 @@
  *
  * Pure: no DOM, no clock (the caller gives `nowMs` for the worksheet's created/updated stamps).
  */
+import { DEFAULT_SET_IDS } from '../goals/registry.js';
 import { DEFAULT_COLUMNS, MEASURES } from '../sheet/measures.js';
 import { Worksheet, type Cell, type Row, type Sex, type TimeZero } from '../sheet/model.js';
 import { parseCellInput } from '../sheet/parse.js';
@@ -313,7 +314,7 @@ export function worksheetFromCsvRows(read: { keys: string[]; rows: CsvRow[] }, f
     archived: false,
     useIdealWeight: false,
     displayOffset: facts.timeZero?.offset ?? rows[0]?.offset ?? 0,
-    goalSets: facts.goalSets ?? ['ssc-hour1', 'sep1', 'ssc2021-targets'],
+    goalSets: facts.goalSets ?? [...DEFAULT_SET_IDS],
     customGoals: [],
     derivedColumns: [],
     columns,

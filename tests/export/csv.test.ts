@@ -134,6 +134,18 @@ describe('worksheetToCsv', () => {
     expect(csv).toContain('"bedside exam, CRT 3 s"');
   });
 
+  it('adds scores and the worksheet own derived columns after the built-in ones', () => {
+    const w = { ...ws, derivedColumns: [{ key: 'map_margin', label: 'MAP above 65', expression: 'map - 65' }] };
+    const text = worksheetToCsv(w);
+    const head = text.split(CSV_EOL)[0]!.split(',');
+    expect(head.indexOf('derived.qsofa')).toBeGreaterThan(head.indexOf('derived.ne_equivalent'));
+    expect(head.at(-1)).toBe('derived.map_margin');
+    const row = text.split(CSV_EOL)[3]!.split(','); // 08:25, MAP 58
+    expect(row[head.indexOf('derived.map_margin')]).toBe('-7');
+    // qSOFA at 08:00: RR 26 >= 22, SBP 82 <= 100, GCS 14 < 15: 3 points (Sepsis-3, reference file §5).
+    expect(text.split(CSV_EOL)[1]!.split(',')[head.indexOf('derived.qsofa')]).toBe('3');
+  });
+
   it('writes plain decimals, never exponents', () => {
     expect(formatCsvNumber(0.0000001)).toBe('0.0000001');
     expect(formatCsvNumber(-0)).toBe('0');
