@@ -42,7 +42,9 @@ type Command =
   | { type: 'delete-row'; rowId: string }
   | { type: 'row-time'; rowId: string; time: string; offset: number }
   | { type: 'facts'; patch: Partial<Facts> }
-  | { type: 'columns'; columns: string[] };
+  | { type: 'columns'; columns: string[] }
+  /** Several commands applied as one change and undone as one step (a paste). */
+  | { type: 'batch'; commands: Command[] };
 
 export type SaveState =
   | { kind: 'saved' }
@@ -155,6 +157,22 @@ export class WorksheetSession {
       }
       case 'columns':
         return { change: setColumns(this.ctx, ws, cmd.columns), inverse: { type: 'columns', columns: ws.columns } };
+      case 'batch': {
+        // One stored version with every entry of the parts: written in one transaction.
+        let next = ws;
+        const entries: Change['entries'] = [];
+        const inverses: Command[] = [];
+        for (const part of cmd.commands) {
+          const r = this.apply(next, part);
+          next = r.change.worksheet;
+          entries.push(...r.change.entries);
+          inverses.unshift(r.inverse);
+        }
+        return {
+          change: { worksheet: { ...next, rev: ws.rev + 1 }, entries },
+          inverse: { type: 'batch', commands: inverses },
+        };
+      }
     }
   }
 
@@ -283,6 +301,23 @@ export class WorksheetSession {
     return { rowId, saved: this.run({ type: 'add-row', row, restored: false }, 'do') };
   }
 
+  /**
+   * A confirmed paste: new rows with their cells and edits to existing rows, stored as one change
+   * and undone as one step.
+   */
+  paste(newRows: readonly { time: string; offset: number; cells: Row['cells'] }[], edits: CellEdit[]): Promise<boolean> {
+    const commands: Command[] = [];
+    let ws = this.view;
+    for (const r of newRows) {
+      const added = addRow(this.ctx, ws, r.time, r.offset, r.cells);
+      ws = added.worksheet;
+      commands.push({ type: 'add-row', row: ws.rows.find((x) => x.id === added.rowId)!, restored: false });
+    }
+    if (edits.length > 0) commands.push({ type: 'cells', edits });
+    if (commands.length === 0) return Promise.resolve(true);
+    return this.run({ type: 'batch', commands }, 'do');
+  }
+
   deleteRow(rowId: string): Promise<boolean> {
     return this.run({ type: 'delete-row', rowId }, 'do');
   }
@@ -318,5 +353,7 @@ export class WorksheetSession {
 }
 
 function cellKeys(cmd: Command): string[] {
+  if (cmd.type === 'batch') return cmd.commands.flatMap(cellKeys);
+  if (cmd.type === 'add-row') return Object.keys(cmd.row.cells).map((k) => `${cmd.row.id}:${k}`);
   return cmd.type === 'cells' ? cmd.edits.map((e) => `${e.rowId}:${e.key}`) : [];
 }

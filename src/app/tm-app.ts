@@ -562,6 +562,7 @@ export class TmApp extends LitElement {
                   .highlightRows=${this.highlight}
                   .now=${this.now}
                   @tm-edit=${(e: CustomEvent) => void this.session?.editCells(e.detail.edits)}
+                  @tm-paste=${(e: CustomEvent) => void this.session?.paste(e.detail.newRows, e.detail.edits)}
                   @tm-add-row=${(e: CustomEvent) => void this.session?.addRow(e.detail.time, e.detail.offset).saved}
                   @tm-row-time=${(e: CustomEvent) => void this.session?.setRowTime(e.detail.rowId, e.detail.time, e.detail.offset)}
                   @tm-delete-row=${(e: CustomEvent) => void this.session?.deleteRow(e.detail.rowId)}

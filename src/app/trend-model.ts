@@ -188,10 +188,12 @@ export interface TrendModel {
   offset: number;
   xMin: number;
   xMax: number;
-  /** Tick positions in minutes since the origin. */
+  /** Tick positions in minutes since the origin (multiples of the step inside [xMin, xMax]). */
   xTicks: number[];
   series: TrendSeries[];
   markers: TrendMarker[];
+  /** Deadlines beyond the right end of the time axis (listed, not drawn as lines). */
+  laterDeadlines: TrendMarker[];
   /** Minutes since the origin of each row (for the selected-row line). */
   rowMinutes: ReadonlyMap<string, number>;
 }
@@ -472,16 +474,18 @@ export function buildTrends(
   const lastRow = timed.length > 0 ? mins(timed[timed.length - 1]!.ms) : 0;
   const firstRow = timed.length > 0 ? mins(timed[0]!.ms) : 0;
   const nowMin = mins(nowMs);
-  let lo = Math.min(0, firstRow, nowMin);
+  const lo = Math.min(0, firstRow, nowMin);
   let hi = Math.max(lastRow, nowMin, 60);
-  // Deadlines ahead are shown when they fall within 6 h of what is charted.
-  for (const mk of markers) if (mk.kind === 'deadline' && mk.minutes <= hi + 360) hi = Math.max(hi, mk.minutes);
-  for (const mk of markers) if (mk.kind === 'deadline' && mk.minutes < lo) lo = mk.minutes;
-  const step = timeStep(hi - lo);
-  const xMin = Math.floor(lo / step) * step;
-  const xMax = Math.ceil(hi / step) * step;
+  // Deadlines in the hour ahead widen the axis; later ones are listed at its right edge
+  // (`laterDeadlines`) so the charted hours keep their room.
+  for (const mk of markers) if (mk.kind === 'deadline' && mk.minutes <= hi + 60) hi = Math.max(hi, mk.minutes);
+  const span = hi - lo;
+  const xMin = lo - span * 0.03;
+  const xMax = hi + span * 0.03;
+  const step = timeStep(span);
   const xTicks: number[] = [];
-  for (let m = xMin; m <= xMax; m += step) xTicks.push(m);
+  for (let m = Math.ceil(xMin / step) * step; m <= xMax; m += step) xTicks.push(m);
+  const laterDeadlines = markers.filter((mk) => mk.kind === 'deadline' && mk.minutes > xMax);
 
   // --- Series ------------------------------------------------------------------------------
   const series = MEASURE_INFO.map((info): TrendSeries => {
@@ -554,7 +558,7 @@ export function buildTrends(
   });
 
   const rowMinutes = new Map(timed.map((t) => [t.row.id, mins(t.ms)]));
-  return { originMs, hasTimeZero, nowMs, offset, xMin, xMax, xTicks, series, markers, rowMinutes };
+  return { originMs, hasTimeZero, nowMs, offset, xMin, xMax, xTicks, series, markers, laterDeadlines, rowMinutes };
 }
 
 function mergeBands(

@@ -113,3 +113,24 @@ describe('WorksheetSession', () => {
     expect(store.stored.log.some((e) => e.kind === 'cell' && e.key === 'lactate')).toBe(true);
   });
 });
+
+describe('WorksheetSession paste', () => {
+  it('stores a paste of new rows and edits as one version and undoes it in one step', async () => {
+    const { store, session, rowId } = fixture();
+    const revBefore = store.stored.rev;
+    await session.paste(
+      [
+        { time: '2026-03-01T08:30:00.000Z', offset: 0, cells: { map: { value: 61 } } },
+        { time: '2026-03-01T09:00:00.000Z', offset: 0, cells: { map: { value: 67 }, lactate: { value: 3.2 } } },
+      ],
+      [{ rowId, key: 'hr', cell: { value: 118 } }],
+    );
+    expect(store.stored.rev).toBe(revBefore + 1);
+    expect(store.stored.rows.map((r) => r.time)).toEqual(['2026-03-01T08:00:00.000Z', '2026-03-01T08:30:00.000Z', '2026-03-01T09:00:00.000Z']);
+    expect(store.stored.rows[0]!.cells['hr']).toEqual({ value: 118 });
+    await session.undo();
+    expect(store.stored.rows).toHaveLength(1);
+    expect(store.stored.rows[0]!.cells['hr']).toBeUndefined();
+    expect(store.stored.rev).toBe(revBefore + 2);
+  });
+});
