@@ -30,6 +30,7 @@
 import { LitElement, html, nothing, type PropertyValues, type TemplateResult } from 'lit';
 import { customElement, property, query, state } from 'lit/decorators.js';
 import { classMap } from 'lit/directives/class-map.js';
+import { guard } from 'lit/directives/guard.js';
 import { repeat } from 'lit/directives/repeat.js';
 import { MINUTE_MS, toInstant } from './clock.js';
 import { DERIVED_DEFS, type DerivedRow, type DerivedValues } from './derived.js';
@@ -126,6 +127,10 @@ export class TmGrid extends LitElement {
   private rows: Row[] = [];
   private cols: GridColumn[] = [];
   private derivedByRow = new Map<string, DerivedValues>();
+  /** Signature of each row's pending cells, so unchanged rows skip re-rendering. */
+  private pendingByRow = new Map<string, string>();
+  /** The inputs `cols` was computed from (a new worksheet version often keeps them). */
+  private colsFrom: [readonly string[], readonly unknown[]] | undefined;
   /** Last known position, to land nearby when the active row or column disappears. */
   private lastPos: CellPos = { row: 0, col: 1 };
   private knownRowIds = new Set<string>();
@@ -153,6 +158,14 @@ export class TmGrid extends LitElement {
   protected override willUpdate(changed: PropertyValues<this>): void {
     if (changed.has('worksheet')) this.takeWorksheet();
     if (changed.has('derived')) this.derivedByRow = new Map(this.derived.map((d) => [d.rowId, d.values]));
+    if (changed.has('pending')) {
+      const byRow = new Map<string, string>();
+      for (const [slot, state] of this.pending) {
+        const rowId = slot.slice(0, slot.lastIndexOf(':'));
+        byRow.set(rowId, `${byRow.get(rowId) ?? ''}${slot}=${state};`);
+      }
+      this.pendingByRow = byRow;
+    }
   }
 
   private takeWorksheet(): void {
@@ -168,7 +181,11 @@ export class TmGrid extends LitElement {
       this.scrollToEnd = true;
     }
     this.rows = ws ? sortRows(ws.rows) : [];
-    this.cols = ws ? gridColumns(ws) : [];
+    if (!ws) this.cols = [];
+    else if (!this.colsFrom || this.colsFrom[0] !== ws.columns || this.colsFrom[1] !== ws.derivedColumns) {
+      this.cols = gridColumns(ws);
+      this.colsFrom = [ws.columns, ws.derivedColumns];
+    }
     const added = this.rows.filter((r) => !this.knownRowIds.has(r.id));
     const hadRows = this.knownRowIds.size > 0;
     this.knownRowIds = new Set(this.rows.map((r) => r.id));
@@ -783,6 +800,30 @@ export class TmGrid extends LitElement {
     </td>`;
   }
 
+  /**
+   * Everything a row's rendering depends on. Moving the active cell changes this for two rows
+   * only, so a key press re-renders two rows, not the whole worksheet.
+   */
+  private rowDeps(ws: Worksheet, row: Row, index: number): unknown[] {
+    const active = this.activeRowId === row.id;
+    const note = this.note?.rowId === row.id ? this.note : null;
+    return [
+      row,
+      index,
+      this.rows[index - 1]?.time,
+      this.cols,
+      this.derivedByRow.get(row.id),
+      this.highlightRows.has(row.id),
+      this.pendingByRow.get(row.id),
+      active ? this.activeColKey : null,
+      active ? this.mode : null,
+      active ? this.editError : null,
+      note,
+      ws.displayOffset,
+      this.displayUnits,
+    ];
+  }
+
   private renderRow(ws: Worksheet, row: Row, index: number): TemplateResult {
     const highlighted = this.highlightRows.has(row.id);
     return html`<tr role="row" aria-rowindex=${index + 2} class=${highlighted ? 'hl' : ''}>
@@ -877,7 +918,7 @@ export class TmGrid extends LitElement {
           @copy=${this.onCopy}
         >
           ${this.renderHeader(ws)}
-          <tbody>${repeat(this.rows, (r) => r.id, (r, i) => this.renderRow(ws, r, i))}</tbody>
+          <tbody>${repeat(this.rows, (r) => r.id, (r, i) => guard(this.rowDeps(ws, r, i), () => this.renderRow(ws, r, i)))}</tbody>
         </table>
         ${this.rows.length === 0
           ? html`<p class="empty" tabindex="0">

@@ -357,6 +357,18 @@ describe('tm-grid: editing', () => {
 });
 
 describe('tm-grid: rows, undo, columns', () => {
+  it('an empty worksheet says what to do, and Alt+N adds its first row', async () => {
+    const ws = gridFixture();
+    const h = await setup({ ...ws, rows: [] });
+    ok(/No rows yet/.test(text($(h.grid, '.empty'))), 'explains itself');
+    eq($(h.grid, 'table').getAttribute('aria-rowcount'), '1', 'only the header row');
+    $(h.grid, 'button.add-now').focus();
+    await press('Alt+n');
+    eq(h.of('tm-add-row'), [{ time: '2026-03-01T09:30:00.000Z', offset: 60 }], 'first row now');
+    await settle(h.grid);
+    eq(focusedCell(h), { row: 0, col: 'map' }, 'the new row is active');
+  });
+
   it('Ctrl+Z asks to undo, Ctrl+Shift+Z and Ctrl+Y to redo', async () => {
     const h = await setup();
     await focusCell(h, 1, 'hr');
