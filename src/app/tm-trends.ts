@@ -87,7 +87,7 @@ export class TmTrends extends LitElement {
       --tr-due: var(--tm-pending, #7a4b00);
       --tr-grid: #e3e6ea;
       --tr-soft: var(--tm-ink-soft, #4a5566);
-      --tr-sel: var(--tm-focus, #b35c00);
+      --tr-sel: var(--tm-accent, #0e5a70);
     }
     section {
       background: var(--tm-surface, #fff);
@@ -297,7 +297,11 @@ export class TmTrends extends LitElement {
     }
     .sel-line {
       stroke: var(--tr-sel);
-      stroke-width: 2.5;
+      stroke-width: 2;
+    }
+    .sel-band {
+      fill: var(--tr-sel);
+      fill-opacity: 0.14;
     }
     .hover-line {
       stroke: var(--tr-line);
@@ -428,7 +432,10 @@ export class TmTrends extends LitElement {
       }
       details,
       .sel-note,
-      .hover-line {
+      .hover-line,
+      .sel-band,
+      .sel-line,
+      .pt .ring {
         display: none;
       }
       .pt.v-above .mark,
@@ -535,7 +542,10 @@ export class TmTrends extends LitElement {
       return svg`<line class=${cls} x1=${x} x2=${x} y1=${top} y2=${bottom}><title>${m.text}</title></line>`;
     })}
     ${hov !== undefined ? svg`<line class="hover-line" x1=${this.x(hov)} x2=${this.x(hov)} y1=${top} y2=${bottom}></line>` : nothing}
-    ${sel !== undefined ? svg`<line class="sel-line" x1=${this.x(sel)} x2=${this.x(sel)} y1=${top} y2=${bottom}></line>` : nothing}`;
+    ${sel !== undefined
+      ? svg`<rect class="sel-band" x=${this.x(sel) - 7} y=${top} width="14" height=${bottom - top}></rect>
+          <line class="sel-line" x1=${this.x(sel)} x2=${this.x(sel)} y1=${top} y2=${bottom}></line>`
+      : nothing}`;
   }
 
   private xGrid(top: number, bottom: number): TemplateResult {
@@ -644,7 +654,7 @@ export class TmTrends extends LitElement {
       const ly = labelY(b.kind === 'range' && b.max === null ? yBottom : yTop);
       const lx = W - RIGHT + 6;
       return svg`<text class="band-label" x=${lx} y=${ly}>${b.shortText}</text>
-        <text class="band-sets" x=${lx} y=${ly + 11}>${b.sets.join(', ')}</text>`;
+        <text class="band-sets" x=${lx} y=${ly + 11}>${b.kind === 'drop' ? `−${b.dropPct}% · ` : ''}${b.sets.join(', ')}</text>`;
     })}`;
   }
 
@@ -782,7 +792,7 @@ export class TmTrends extends LitElement {
     const m = md.rowMinutes.get(this.selectedRowId);
     if (m === undefined) return nothing;
     return html`<p class="sel-note" role="status">
-      Selected row: ${this.clock(md.originMs + m * 60_000)}, ${sinceText(m, md.hasTimeZero)} (solid line).
+      Selected row: ${this.clock(md.originMs + m * 60_000)}, ${sinceText(m, md.hasTimeZero)} (shaded line, ringed values).
     </p>`;
   }
 

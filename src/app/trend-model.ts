@@ -365,7 +365,7 @@ function bandsFor(
 }
 
 function bandShort(key: TrendKey, b: Pick<TrendBand, 'kind' | 'min' | 'max' | 'dropPct'>): string {
-  if (b.kind === 'drop') return `target ≤ ${valueText(key, b.max!)} (−${b.dropPct}%)`;
+  if (b.kind === 'drop') return `target ≤ ${valueText(key, b.max!)}`;
   if (b.min !== null && b.max !== null) return `target ${b.min}–${b.max}`;
   if (b.min !== null) return `target ≥ ${b.min}`;
   if (b.max !== null) return `target ≤ ${b.max}`;

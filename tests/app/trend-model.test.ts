@@ -243,14 +243,26 @@ describe('markers', () => {
 });
 
 describe('axes', () => {
-  it('the time axis covers the rows, now and deadlines, on whole steps', () => {
+  it('the time axis covers the rows and now, with ticks on whole steps inside it', () => {
     const m = trends(sheet());
     expect(m.xMin).toBeLessThanOrEqual(-20);
     expect(m.xMax).toBeGreaterThanOrEqual(430);
-    expect(m.xTicks[0]).toBe(m.xMin);
-    expect(m.xTicks[m.xTicks.length - 1]).toBe(m.xMax);
     const step = m.xTicks[1]! - m.xTicks[0]!;
-    expect(m.xTicks.every((t) => t % step === 0)).toBe(true);
+    expect(step).toBe(120);
+    expect(m.xTicks.every((t) => t % step === 0 && t >= m.xMin && t <= m.xMax)).toBe(true);
+    expect(m.xTicks[0]! - step).toBeLessThan(m.xMin);
+    expect(m.xTicks[m.xTicks.length - 1]! + step).toBeGreaterThan(m.xMax);
+  });
+
+  it('deadlines in the hour ahead widen the axis; later ones are listed apart', () => {
+    // At 30 min: hour-1 deadlines (60 min, reference file §2) are ahead within the hour and are
+    // drawn; SEP-1 3 h and EGDT 6 h deadlines (reference file §3b, §4) are listed as later.
+    const m = trends(sheet(ALL_SETS, ROWS.slice(0, 2)), T0 + 30 * MIN);
+    expect(m.xMax).toBeGreaterThanOrEqual(60);
+    expect(m.xMax).toBeLessThan(180);
+    expect(m.laterDeadlines.map((d) => d.minutes)).toEqual(m.markers.filter((d) => d.kind === 'deadline' && d.minutes > m.xMax).map((d) => d.minutes));
+    expect(m.laterDeadlines.some((d) => d.minutes === 180)).toBe(true);
+    expect(m.laterDeadlines.some((d) => d.minutes === 60)).toBe(false);
   });
 
   it('each value axis holds its points and band edges; ScvO₂ stops at 100 %', () => {
