@@ -324,6 +324,8 @@ export class TmApp extends LitElement {
     this.session = new WorksheetSession(ws, this.store, this.clock);
     this.unsubscribe = this.session.subscribe((s) => {
       this.snap = s;
+      // A row entered "now" must count at once, not at the next tick.
+      this.now = this.clock.now();
       this.recompute();
       if (s.save.kind === 'saved') void this.refreshListing();
     });
