@@ -25,7 +25,7 @@ export interface GoalClock {
   deadlineMs: number | null;
   /** Pending with a deadline: ms left (never negative; 0 at and after the deadline). */
   msLeft: number | null;
-  /** Missed by a deadline: ms past it. */
+  /** Missed and not done: ms past the deadline (null when it was done late). */
   msOverdue: number | null;
   /** True in the last SECONDS_WINDOW_MINUTES before a pending deadline: show seconds. */
   showSeconds: boolean;
@@ -35,7 +35,7 @@ export interface GoalClock {
  * Each goal's clock at `nowMs`. Statuses may have been evaluated a little earlier; the clock uses
  * the deadline and `nowMs`, and the status is re-evaluated at the tick nextTickMs gives.
  */
-export function goalClocks(statuses: readonly Pick<GoalStatus, 'id' | 'status' | 'deadline'>[], nowMs: number): GoalClock[] {
+export function goalClocks(statuses: readonly (Pick<GoalStatus, 'id' | 'status' | 'deadline'> & { late?: boolean })[], nowMs: number): GoalClock[] {
   return statuses.map((s) => {
     const d = s.deadline === null ? null : Date.parse(s.deadline);
     const clock: GoalClock = { id: s.id, status: s.status, deadlineMs: d, msLeft: null, msOverdue: null, showSeconds: false };
@@ -43,7 +43,7 @@ export function goalClocks(statuses: readonly Pick<GoalStatus, 'id' | 'status' |
     if (s.status === 'pending') {
       clock.msLeft = Math.max(0, d - nowMs);
       clock.showSeconds = d - nowMs <= SECONDS_WINDOW_MINUTES * MINUTE_MS;
-    } else if (s.status === 'missed') {
+    } else if (s.status === 'missed' && !s.late) {
       clock.msOverdue = Math.max(0, nowMs - d);
     }
     return clock;
@@ -82,13 +82,13 @@ function toNextBoundary(nowMs: number, anchorMs: number, period: number): number
 /**
  * When the screen must next update (an instant in ms, always later than `nowMs`):
  * - at least once a minute, on the minute of time zero's clock when `timeZeroMs` is given;
- * - on each minute boundary of every pending deadline's countdown and every missed deadline's
- *   overdue count, so "12 min left" changes exactly when it should;
+ * - on each minute boundary of every pending deadline's countdown and every overdue count (missed
+ *   and not done), so "12 min left" changes exactly when it should;
  * - every second (on the deadline's second boundaries) in the last 10 minutes before any pending
  *   deadline, including the moment the deadline passes (when the goal turns missed);
  * - at once (1 ms) when a status says pending but its deadline has already passed (stale list).
  */
-export function nextTickMs(statuses: readonly Pick<GoalStatus, 'status' | 'deadline'>[], nowMs: number, timeZeroMs?: number): number {
+export function nextTickMs(statuses: readonly (Pick<GoalStatus, 'status' | 'deadline'> & { late?: boolean })[], nowMs: number, timeZeroMs?: number): number {
   let step = MINUTE_MS;
   if (timeZeroMs !== undefined && Number.isFinite(timeZeroMs)) step = Math.min(step, toNextBoundary(nowMs, timeZeroMs, MINUTE_MS));
   for (const s of statuses) {
@@ -104,7 +104,7 @@ export function nextTickMs(statuses: readonly Pick<GoalStatus, 'status' | 'deadl
       } else {
         step = Math.min(step, left - SECONDS_WINDOW_MINUTES * MINUTE_MS, toNextBoundary(nowMs, d, MINUTE_MS));
       }
-    } else if (s.status === 'missed' && left < 0) {
+    } else if (s.status === 'missed' && !s.late && left < 0) {
       step = Math.min(step, toNextBoundary(nowMs, d, MINUTE_MS));
     }
   }

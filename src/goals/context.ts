@@ -31,6 +31,25 @@ export interface EvalContext {
   weight: DosingWeight | undefined;
   /** Offset used to write times. */
   offset: number;
+  /** Per-key caches, filled on first use (a context lives for one evaluation). */
+  cache: {
+    series: Map<string, Point[]>;
+    present: Map<string, TimedRow[]>;
+    bp?: BpPoint[];
+  };
+}
+
+/** A number of one key at a row. */
+export interface Point {
+  r: TimedRow;
+  v: number;
+}
+
+/** A row with a blood pressure reading (SBP, or MAP measured or estimated). */
+export interface BpPoint {
+  r: TimedRow;
+  sbp: number | undefined;
+  map: number | undefined;
 }
 
 /** Sorted rows with their times; stable for rows at the same instant. */
@@ -42,11 +61,11 @@ export function timedRows(ws: Worksheet): TimedRow[] {
 }
 
 /** Builds the context; `t0Ms` must be a finite time (callers check that time zero is set). */
-export function makeContext(ws: Worksheet, atMs: number, t0Ms: number): EvalContext {
-  // Derived values are computed on the time-ordered rows so out-of-order input cannot bend them.
+export function makeContext(ws: Worksheet, atMs: number, t0Ms: number, derivedRows?: readonly DerivedRow[]): EvalContext {
   const all = timedRows(ws);
-  const ordered: Worksheet = { ...ws, rows: all.map((r) => r.row) };
-  const derived = new Map(deriveWorksheet(ordered).map((d) => [d.rowId, d]));
+  // Derived values are computed on the time-ordered rows so out-of-order input cannot bend them.
+  // A caller that already has them (the app) may pass them in; they are matched by row id.
+  const derived = new Map((derivedRows ?? deriveWorksheet({ ...ws, rows: all.map((r) => r.row) })).map((d) => [d.rowId, d]));
   return {
     ws,
     atMs,
@@ -55,7 +74,63 @@ export function makeContext(ws: Worksheet, atMs: number, t0Ms: number): EvalCont
     derived,
     weight: dosingWeight(ws),
     offset: ws.displayOffset,
+    cache: { series: new Map(), present: new Map() },
   };
+}
+
+/** Index of the first item with time >= fromMs (items sorted by time). */
+function lowerBound<T extends { ms: number } | { r: { ms: number } }>(items: readonly T[], fromMs: number): number {
+  let lo = 0;
+  let hi = items.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    const it = items[mid]!;
+    const ms = 'ms' in it ? it.ms : it.r.ms;
+    if (ms < fromMs) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
+}
+
+/** Values of `key` (charted, else derived) in rows from `fromMs` to the evaluation moment, in time order. */
+export function series(ctx: EvalContext, key: string, fromMs = -Infinity): Point[] {
+  let all = ctx.cache.series.get(key);
+  if (!all) {
+    all = [];
+    for (const r of ctx.rows) {
+      const v = num(ctx, r, key);
+      if (v !== undefined) all.push({ r, v });
+    }
+    ctx.cache.series.set(key, all);
+  }
+  return fromMs === -Infinity ? all : all.slice(lowerBound(all, fromMs));
+}
+
+/** Rows from `fromMs` on with any value of `key` (mark, text, number or derived number). */
+export function present(ctx: EvalContext, key: string, fromMs = -Infinity): TimedRow[] {
+  let all = ctx.cache.present.get(key);
+  if (!all) {
+    all = ctx.rows.filter((r) => has(ctx, r, key));
+    ctx.cache.present.set(key, all);
+  }
+  return fromMs === -Infinity ? all : all.slice(lowerBound(all, fromMs));
+}
+
+/** Blood pressure readings from `fromMs` to `toMs` (inclusive). */
+export function bpReadings(ctx: EvalContext, fromMs: number, toMs: number): BpPoint[] {
+  if (!ctx.cache.bp) {
+    const out: BpPoint[] = [];
+    for (const r of ctx.rows) {
+      const sbp = num(ctx, r, 'sbp');
+      const map = num(ctx, r, 'map');
+      if (sbp !== undefined || map !== undefined) out.push({ r, sbp, map });
+    }
+    ctx.cache.bp = out;
+  }
+  const all = ctx.cache.bp;
+  const out: BpPoint[] = [];
+  for (let i = lowerBound(all, fromMs); i < all.length && all[i]!.r.ms <= toMs; i++) out.push(all[i]!);
+  return out;
 }
 
 /** A number at a row: the charted value, else the derived one (so MAP may be estimated). */

@@ -19,6 +19,7 @@
  * Pure: no DOM, no wall clock.
  */
 import { MINUTE_MS, toInstant } from '../sheet/clock.js';
+import type { DerivedRow } from '../sheet/derived.js';
 import type { Worksheet } from '../sheet/model.js';
 import { clockText, makeContext, spanText, type EvalContext } from './context.js';
 import { evaluateCustomGoals } from './custom.js';
@@ -71,7 +72,13 @@ export function evaluateGoal(ctx: EvalContext, set: GoalSetDef, goal: GoalDef): 
 }
 
 export interface EvaluateOptions {
+  /** Where set ids are looked up (default: the shared registry with the published sets). */
   registry?: GoalRegistry;
+  /**
+   * Derived values the caller already has (deriveWorksheet/deriveAll rows, matched by row id),
+   * to save recomputing them on every tick. They must be computed from the same worksheet.
+   */
+  derived?: readonly DerivedRow[];
 }
 
 /**
@@ -90,7 +97,7 @@ export function evaluate(ws: Worksheet, setIds: readonly string[], atMs: number,
     if (withCustom) out.push(...evaluateCustomGoals(ws, undefined, atMs).map(none));
     return out;
   }
-  const ctx = makeContext(ws, atMs, t0Ms);
+  const ctx = makeContext(ws, atMs, t0Ms, options.derived);
   const out = sets.flatMap((set) => set.goals.map((g) => evaluateGoal(ctx, set, g)));
   if (withCustom) out.push(...evaluateCustomGoals(ws, ctx, atMs));
   return out;

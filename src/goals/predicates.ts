@@ -5,15 +5,16 @@
  */
 import { MINUTE_MS } from '../sheet/clock.js';
 import {
+  bpReadings,
   clockText,
   compare,
   keyName,
   keyWord,
   mlText,
   namedValue,
-  num,
-  rowsFrom,
+  series,
   valueText,
+  type BpPoint,
   type EvalContext,
   type TimedRow,
 } from './context.js';
@@ -50,10 +51,8 @@ export interface Reading {
 }
 
 /** A row with SBP or MAP (measured or estimated) is a reading; low by the given test. */
-export function reading(ctx: EvalContext, r: TimedRow, test: HypotensionTest): Reading | undefined {
-  const sbp = num(ctx, r, 'sbp');
-  const map = num(ctx, r, 'map');
-  if (sbp === undefined && map === undefined) return undefined;
+export function reading(ctx: EvalContext, p: BpPoint, test: HypotensionTest): Reading {
+  const { r, sbp, map } = p;
   const baseline = ctx.ws.baselineSbp;
   const low =
     (test.sbpBelow !== undefined && sbp !== undefined && compare(sbp, '<', test.sbpBelow)) ||
@@ -111,9 +110,8 @@ export function volumeProgress(ctx: EvalContext, key: string, mlPerKg: number, l
   let reached: TimedRow | undefined;
   let first: TimedRow | undefined;
   const rowIds: string[] = [];
-  for (const r of rowsFrom(ctx, windowStart(ctx, lookbackMinutes))) {
-    const v = num(ctx, r, key);
-    if (v === undefined || v <= 0) continue;
+  for (const { r, v } of series(ctx, key, windowStart(ctx, lookbackMinutes))) {
+    if (v <= 0) continue;
     givenMl += v;
     rowIds.push(r.row.id);
     first ??= r;
@@ -130,9 +128,9 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
       return yes(ctx.t0Ms, [], 'always applies');
 
     case 'initial-value': {
-      const first = rowsFrom(ctx, windowStart(ctx, p.lookbackMinutes)).find((r) => num(ctx, r, p.key) !== undefined);
-      if (!first) return unknown(`no ${keyWord(p.key)} charted yet`);
-      const v = num(ctx, first, p.key)!;
+      const point = series(ctx, p.key, windowStart(ctx, p.lookbackMinutes))[0];
+      if (!point) return unknown(`no ${keyWord(p.key)} charted yet`);
+      const { r: first, v } = point;
       const words = `first ${keyWord(p.key)} ${valueText(p.key, v)} at ${clockText(ctx, first.ms)}`;
       return compare(v, p.op, p.value)
         ? yes(first.ms, [first.row.id], `${words} is ${OP_WORDS[p.op]} ${valueText(p.key, p.value)}`)
@@ -140,14 +138,12 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
     }
 
     case 'any-value': {
-      for (const r of rowsFrom(ctx, windowStart(ctx, p.lookbackMinutes))) {
-        for (const key of p.keys) {
-          const v = num(ctx, r, key);
-          if (v !== undefined && compare(v, p.op, p.value)) {
-            return yes(r.ms, [r.row.id], `${namedValue(key, v)} at ${clockText(ctx, r.ms)}`);
-          }
-        }
+      let best: { key: string; r: TimedRow; v: number } | undefined;
+      for (const key of p.keys) {
+        const hit = series(ctx, key, windowStart(ctx, p.lookbackMinutes)).find((x) => compare(x.v, p.op, p.value));
+        if (hit && (!best || hit.r.ms < best.r.ms)) best = { key, ...hit };
       }
+      if (best) return yes(best.r.ms, [best.r.row.id], `${namedValue(best.key, best.v)} at ${clockText(ctx, best.r.ms)}`);
       return no(`no ${p.keys.map(keyName).join(' or ')} ${OP_WORDS[p.op]} ${p.value} charted`);
     }
 
@@ -179,10 +175,7 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
         start = Math.max(start, a.sinceMs!);
         afterWords = ` from ${clockText(ctx, a.sinceMs!)}`;
       }
-      const readings = ctx.rows
-        .filter((r) => r.ms >= start && r.ms <= end)
-        .map((r) => reading(ctx, r, p))
-        .filter((x): x is Reading => x !== undefined);
+      const readings = bpReadings(ctx, start, end).map((x) => reading(ctx, x, p));
       if (readings.length === 0) return unknown(`no blood pressure charted${afterWords}`);
       const run = lowRun(readings, p.consecutive);
       if (run) {
@@ -202,10 +195,7 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
       }
       const endMs = v.reached.ms;
       const closeMs = endMs + p.withinMinutes * MINUTE_MS;
-      const readings = ctx.rows
-        .filter((r) => r.ms > endMs && r.ms <= closeMs)
-        .map((r) => reading(ctx, r, p))
-        .filter((x): x is Reading => x !== undefined);
+      const readings = bpReadings(ctx, endMs + 1, closeMs).map((x) => reading(ctx, x, p));
       const run = lowRun(readings, p.consecutive);
       const ended = `the ${p.mlPerKg} mL/kg ended at ${clockText(ctx, endMs)}`;
       if (run) {

@@ -8,7 +8,6 @@ import {
   EPS,
   clockText,
   compare,
-  has,
   keyName,
   keyUnit,
   keyNoun,
@@ -16,7 +15,8 @@ import {
   minutesBetween,
   mlText,
   num,
-  rowsFrom,
+  present,
+  series,
   valueText,
   type EvalContext,
   type TimedRow,
@@ -95,18 +95,16 @@ function cellDetail(ctx: EvalContext, r: TimedRow, key: string, named: boolean):
   return v === undefined ? '' : numberText(v);
 }
 
+/** The earliest row from `fromMs` with one of `keys` (compared with `value` when given); ties go to the first key. */
 function firstWith(ctx: EvalContext, fromMs: number, keys: readonly string[], op?: '>' | '>=' | '<' | '<=', value?: number): { r: TimedRow; key: string } | undefined {
-  for (const r of rowsFrom(ctx, fromMs)) {
-    for (const key of keys) {
-      if (op !== undefined && value !== undefined) {
-        const v = num(ctx, r, key);
-        if (v !== undefined && compare(v, op, value)) return { r, key };
-      } else if (has(ctx, r, key)) {
-        return { r, key };
-      }
-    }
+  let best: { r: TimedRow; key: string } | undefined;
+  for (const key of keys) {
+    const r = op !== undefined && value !== undefined
+      ? series(ctx, key, fromMs).find((x) => compare(x.v, op, value))?.r
+      : present(ctx, key, fromMs)[0];
+    if (r && (!best || r.ms < best.r.ms)) best = { r, key };
   }
-  return undefined;
+  return best;
 }
 
 function capital(s: string): string {
@@ -220,20 +218,20 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
     }
 
     case 'repeat-value-within': {
-      const values = rowsFrom(ctx, startOf(ctx, rule.lookbackMinutes)).filter((r) => num(ctx, r, rule.key) !== undefined);
+      const values = series(ctx, rule.key, startOf(ctx, rule.lookbackMinutes));
       const initial = values[0];
       if (!initial) {
         const t = `No initial ${keyWord(rule.key)} yet`;
         return { noData: t, holdsNow: false, text: t, supportRowIds: [], failRowIds: [] };
       }
-      const repeat = values.find((r) => r.ms > initial.ms);
-      const first = `${keyWord(rule.key)} ${valueText(rule.key, num(ctx, initial, rule.key)!)} at ${clockText(ctx, initial.ms)}`;
-      if (!repeat) return { holdsNow: false, text: `No ${rule.event} yet (first ${first})`, supportRowIds: [initial.row.id], failRowIds: [] };
+      const repeat = values.find((x) => x.r.ms > initial.r.ms);
+      const first = `${keyWord(rule.key)} ${valueText(rule.key, initial.v)} at ${clockText(ctx, initial.r.ms)}`;
+      if (!repeat) return { holdsNow: false, text: `No ${rule.event} yet (first ${first})`, supportRowIds: [initial.r.row.id], failRowIds: [] };
       return {
-        doneMs: repeat.ms,
+        doneMs: repeat.r.ms,
         holdsNow: true,
-        text: `${capital(rule.event)} ${valueText(rule.key, num(ctx, repeat, rule.key)!)} at ${clockText(ctx, repeat.ms)} (first ${first})`,
-        supportRowIds: [initial.row.id, repeat.row.id],
+        text: `${capital(rule.event)} ${valueText(rule.key, repeat.v)} at ${clockText(ctx, repeat.r.ms)} (first ${first})`,
+        supportRowIds: [initial.r.row.id, repeat.r.row.id],
         failRowIds: [],
       };
     }
@@ -246,9 +244,7 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
 function evalTarget(ctx: EvalContext, rule: Extract<Rule, { kind: 'target' }>, cond: PredicateResult): RuleFacts {
   let from = startOf(ctx, rule.lookbackMinutes);
   if (rule.from === 'condition' && cond.sinceMs !== undefined) from = Math.max(from, cond.sinceMs);
-  const series = rowsFrom(ctx, from)
-    .map((r) => ({ r, v: num(ctx, r, rule.key) }))
-    .filter((x): x is { r: TimedRow; v: number } => x.v !== undefined);
+  const values = series(ctx, rule.key, from);
   const name = keyName(rule.key);
   const rangeText = targetRangeText(rule.key, rule.test);
   const since = rule.from === 'condition' ? ` since ${clockText(ctx, from)}` : '';
@@ -257,17 +253,17 @@ function evalTarget(ctx: EvalContext, rule: Extract<Rule, { kind: 'target' }>, c
     latestValue: null, latestAt: null, latestRowId: null, ageMinutes: null, inRangeNow: null,
     shareInRange: null, chartedMinutes: 0, count: 0,
   };
-  if (series.length === 0) {
+  if (values.length === 0) {
     const t = keyUnit(rule.key).includes('/kg') && ctx.ws.weightKg === undefined
       ? `No weight, so ${keyNoun(rule.key)} cannot be worked out`
       : `No ${keyNoun(rule.key)} charted${since}`;
     return { noData: t, holdsNow: false, text: t, supportRowIds: [], failRowIds: [], target: empty };
   }
   const test = rule.test;
-  const ref = series[0]!.v;
-  if (test.kind === 'drop-from-first' && series.length < 2) {
-    const t = `Only one ${keyWord(rule.key)} (${valueText(rule.key, ref)} at ${clockText(ctx, series[0]!.r.ms)}); a second is needed to see the trend`;
-    const latest = series[0]!;
+  const ref = values[0]!.v;
+  if (test.kind === 'drop-from-first' && values.length < 2) {
+    const t = `Only one ${keyWord(rule.key)} (${valueText(rule.key, ref)} at ${clockText(ctx, values[0]!.r.ms)}); a second is needed to see the trend`;
+    const latest = values[0]!;
     return {
       noData: t, holdsNow: false, text: t, supportRowIds: [latest.r.row.id], failRowIds: [],
       target: { ...empty, latestValue: latest.v, latestAt: latest.r.row.time, latestRowId: latest.r.row.id, ageMinutes: minutesBetween(latest.r.ms, ctx.atMs), inRangeNow: false, count: 1 },
@@ -285,20 +281,20 @@ function evalTarget(ctx: EvalContext, rule: Extract<Rule, { kind: 'target' }>, c
   // Time-weighted share in range (see TargetInfo.shareInRange).
   let covered = 0;
   let inside = 0;
-  series.forEach((x, i) => {
+  values.forEach((x, i) => {
     let span: number;
     if (rule.valueCovers === 'since-previous-row') {
       span = x.r.prevMs === undefined ? 0 : x.r.ms - x.r.prevMs;
     } else {
-      const next = series[i + 1];
+      const next = values[i + 1];
       span = (next ? next.r.ms : ctx.atMs) - x.r.ms;
     }
     covered += span;
     if (inRange(x.v)) inside += span;
   });
-  const latest = series[series.length - 1]!;
+  const latest = values[values.length - 1]!;
   const nowIn = inRange(latest.v);
-  const reached = series.find((x) => inRange(x.v));
+  const reached = values.find((x) => inRange(x.v));
   const target: TargetInfo = {
     ...empty,
     latestValue: latest.v,
@@ -308,7 +304,7 @@ function evalTarget(ctx: EvalContext, rule: Extract<Rule, { kind: 'target' }>, c
     inRangeNow: nowIn,
     shareInRange: covered > 0 ? inside / covered : null,
     chartedMinutes: covered / MINUTE_MS,
-    count: series.length,
+    count: values.length,
   };
   const latestWords = `${name} ${valueText(rule.key, latest.v)} at ${clockText(ctx, latest.r.ms)}`;
   const share = target.shareInRange === null ? '' : `; in range ${Math.round(target.shareInRange * 100)}% of charted time`;

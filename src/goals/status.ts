@@ -36,7 +36,7 @@ export interface GoalStatus {
   deadlineText: string | null;
   /** Pending with a deadline: exact minutes left (0 at the deadline instant). */
   minutesLeft: number | null;
-  /** Missed by a deadline: exact minutes past it at the evaluation moment. */
+  /** Missed and still not done: exact minutes past the deadline at the evaluation moment (null when done late or failed for good). */
   minutesOverdue: number | null;
   /** Missed late: minutes between the deadline and the late completion. */
   minutesLate: number | null;
@@ -130,7 +130,6 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
   if (facts.failed) {
     out.status = 'missed';
     if (facts.doneMs !== undefined) setDone(facts.doneMs);
-    if (deadline && ctx.atMs > deadline.ms) out.minutesOverdue = minutesBetween(deadline.ms, ctx.atMs);
     out.explanation = sentence(`${facts.text}${detail}`);
     return out;
   }
@@ -150,7 +149,6 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
   }
   if (deadline && ctx.atMs > deadline.ms) {
     out.status = 'missed';
-    out.minutesOverdue = minutesBetween(deadline.ms, ctx.atMs);
     if (done !== undefined) {
       setDone(done);
       out.late = true;
@@ -158,6 +156,7 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
       out.explanation = sentence(`${facts.text}, ${relToT0(ctx, done)}: ${durationText(done - deadline.ms)} late (${dl})${detail}`);
       if (!facts.target) out.failRowIds = [...new Set([...out.failRowIds, ...out.supportRowIds])];
     } else {
+      out.minutesOverdue = minutesBetween(deadline.ms, ctx.atMs);
       out.explanation = sentence(`${facts.text}${detail}; ${due}, now ${durationText(ctx.atMs - deadline.ms)} overdue`);
     }
     return out;

@@ -28,12 +28,14 @@ describe('elapsedSinceTimeZero', () => {
 
 describe('goalClocks', () => {
   it('gives time left for pending, overdue for missed, and seconds in the last 10 minutes', () => {
-    const c = goalClocks([s('a', 'pending', 60), s('b', 'pending', 70), s('c', 'missed', 30), s('d', 'met', 60), s('e', 'pending', null)], at(55));
+    const c = goalClocks([s('a', 'pending', 60), s('b', 'pending', 70), s('c', 'missed', 30), s('d', 'met', 60), s('e', 'pending', null), s('f', 'missed', 30, true)], at(55));
     expect(c[0]).toMatchObject({ msLeft: 5 * 60_000, showSeconds: true });
     expect(c[1]).toMatchObject({ msLeft: 15 * 60_000, showSeconds: false });
     expect(c[2]).toMatchObject({ msOverdue: 25 * 60_000, msLeft: null });
     expect(c[3]).toMatchObject({ msLeft: null, msOverdue: null });
     expect(c[4]).toMatchObject({ msLeft: null, deadlineMs: null });
+    // Done late: no growing overdue clock.
+    expect(c[5]).toMatchObject({ msOverdue: null, msLeft: null });
   });
 });
 
@@ -88,6 +90,8 @@ describe('nextTickMs', () => {
   it('counts overdue minutes on the missed deadline minute boundary', () => {
     const d = T0 + 30_000; // deadline at 30 s past a minute
     expect(nextTickMs([{ status: 'missed', deadline: new Date(d).toISOString() }], T0 + 120_000)).toBe(T0 + 150_000);
+    // Done late: nothing counts, so only the once-a-minute tick remains.
+    expect(nextTickMs([{ status: 'missed', late: true, deadline: new Date(d).toISOString() }], T0 + 120_000)).toBe(T0 + 180_000);
   });
 });
 

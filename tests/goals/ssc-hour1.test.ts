@@ -25,6 +25,7 @@ describe('ssc-hour1.lactate', () => {
     expect(g.metAt).toBe(iso(61));
     expect(g.minutesFromTimeZero).toBe(61);
     expect(g.minutesLate).toBe(1);
+    expect(g.minutesOverdue).toBeNull();
     expect(g.failRowIds).toContain(rowId(0));
   });
 
