@@ -11,7 +11,7 @@
  */
 import type { Clock } from '../sheet/clock.js';
 import type { Store } from '../storage/store.js';
-import type { Cell, Row, Worksheet } from '../sheet/model.js';
+import type { Row, Worksheet } from '../sheet/model.js';
 import {
   addRow,
   deleteRow,
@@ -21,6 +21,7 @@ import {
   setColumns,
   setFacts,
   setRowTime,
+  type CellEdit,
   type Change,
   type Ctx,
   type Facts,
@@ -29,11 +30,6 @@ import {
 /** The part of the store a session needs. */
 export type SessionStore = Pick<Store, 'commit'>;
 
-export interface CellEdit {
-  rowId: string;
-  key: string;
-  cell: Cell | null;
-}
 
 /** A command the user can undo: applying it gives the inverse command. */
 type Command =

@@ -570,26 +570,27 @@ function describeGap(r: EvalResult): string {
   return r.error ?? 'cannot be worked out';
 }
 
+/** Placeholder until pass 1b fills in the scores of a row. */
+const EMPTY_SCORES = {} as RowScores;
+
 /** Recomputes rows lo..hi of `out` in place (rows outside keep their values). */
 function computeRows(ws: Worksheet, plan: ColumnPlan, options: DeriveOptions, out: RowDerivation[], lo: number, hi: number): void {
   const p = prepare(ws);
   const rows = ws.rows;
   const value = (j: number, key: string): number | undefined => valueOfCell(rows[j]!, key) ?? out[j]?.values[key];
-  // While row i is being built, its built-in values are in `pending` (the scores read them).
-  let pending: { i: number; values: DerivedValues } | undefined;
-  const scoreInput = makeScoreInput(p.times, (j, key) => num(rows[j]!, key) ?? (pending && j === pending.i ? pending.values[key] : out[j]?.values[key]));
-
-  // Pass 1: built-in derived measures and scores.
+  // Pass 1a: built-in derived measures.
   for (let i = lo; i <= hi; i++) {
-    const values = builtInAt(ws, p, i);
-    pending = { i, values };
-    const scores = scoresAt(scoreInput, i, options);
-    for (const [key, s] of [['sofa', scores.sofa], ['qsofa', scores.qsofa], ['sirs', scores.sirs]] as const) {
-      if (Object.keys(s.parts).length > 0) values[key] = s.score;
-    }
-    out[i] = { rowId: rows[i]!.id, time: rows[i]!.time, values, scores, gaps: {} };
+    out[i] = { rowId: rows[i]!.id, time: rows[i]!.time, values: builtInAt(ws, p, i), scores: EMPTY_SCORES, gaps: {} };
   }
-  pending = undefined;
+  // Pass 1b: scores, over the final built-in values (columns are built once, on first use).
+  const scoreInput = makeScoreInput(p.times, (j, key) => num(rows[j]!, key) ?? out[j]?.values[key]);
+  for (let i = lo; i <= hi; i++) {
+    const r = out[i]!;
+    r.scores = scoresAt(scoreInput, i, options);
+    for (const [key, s] of [['sofa', r.scores.sofa], ['qsofa', r.scores.qsofa], ['sirs', r.scores.sirs]] as const) {
+      if (Object.keys(s.parts).length > 0) r.values[key] = s.score;
+    }
+  }
   if (plan.order.length === 0) return;
 
   // Pass 2: user columns, in dependency order, with the row helpers.

@@ -30,7 +30,7 @@ import { MEASURES, measure, type MeasureDef, type UnitDef } from './measures.js'
 import type { Cell, DerivedColumn, Row, Worksheet } from './model.js';
 import { parseCellInput, type ParseResult } from './parse.js';
 import { parseTimeInput } from './time.js';
-import type { CellInputEdit } from './undo.js';
+import type { CellInputEdit } from './worksheet.js';
 
 // --- Columns as the grid shows them ---------------------------------------------------------
 

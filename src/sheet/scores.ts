@@ -53,29 +53,43 @@ export interface ScoreOptions {
 export const DEFAULT_WINDOW_HOURS = 24;
 const HOUR_MS = 3_600_000;
 
-/** What the scores read: row times and the value of a key at a row. */
+/** What the scores read: row times and, per key, a column of values (NaN where missing). */
 export interface ScoreInput {
   /** Row times, ms since the epoch, ascending. */
   readonly times: readonly number[];
-  /** Charted value of a key at a row, else its built-in derived value (MAP estimate, P/F). */
-  value(rowIndex: number, key: string): number | undefined;
+  /** Charted value of a key at each row, else its built-in derived value (MAP estimate, P/F); NaN when missing. */
+  column(key: string): Float64Array;
   /** Index of the last row at or before `rowIndex` with a value of `key`, or −1. */
   lastIndexAtOrBefore(key: string, rowIndex: number): number;
 }
 
-/** Builds a ScoreInput with an index of last-charted rows (built per key on first use). */
+/**
+ * Builds a ScoreInput from a value function. Each key's column (and its last-charted index) is
+ * built on first use, so build the input after every row's built-in values are final.
+ */
 export function makeScoreInput(times: readonly number[], value: (rowIndex: number, key: string) => number | undefined): ScoreInput {
+  const columns = new Map<string, Float64Array>();
   const last = new Map<string, Int32Array>();
+  const column = (key: string): Float64Array => {
+    let col = columns.get(key);
+    if (!col) {
+      col = new Float64Array(times.length);
+      for (let j = 0; j < times.length; j++) col[j] = value(j, key) ?? Number.NaN;
+      columns.set(key, col);
+    }
+    return col;
+  };
   return {
     times,
-    value,
+    column,
     lastIndexAtOrBefore(key, rowIndex) {
       let arr = last.get(key);
       if (!arr) {
+        const col = column(key);
         arr = new Int32Array(times.length);
         let l = -1;
         for (let j = 0; j < times.length; j++) {
-          if (value(j, key) !== undefined) l = j;
+          if (!Number.isNaN(col[j]!)) l = j;
           arr[j] = l;
         }
         last.set(key, arr);
@@ -226,6 +240,9 @@ interface Extreme {
   time: number;
 }
 
+/** Keys whose lowest and highest values in the window the scores read. */
+const WINDOW_KEYS = ['pf_ratio', 'platelets', 'map', 'gcs', 'sbp', 'temp', 'wbc', 'paco2', 'rr', 'hr', 'bilirubin', 'creatinine'] as const;
+
 /** First row index of the window ending at row i. */
 export function windowStart(times: readonly number[], i: number, windowHours = DEFAULT_WINDOW_HOURS): number {
   const from = times[i]! - windowHours * HOUR_MS;
@@ -252,36 +269,54 @@ export function sustainedRate(
   const now = input.times[i]!;
   const from = now - windowHours * HOUR_MS;
   const lookFrom = from - minHours * HOUR_MS;
-  // Charted points from lookFrom on, with the value carried in from before it.
-  const points: { t: number; r: number }[] = [];
+  const col = input.column(key);
+  // Step function of the rate from lookFrom on: segment k runs from ts[k] to ts[k+1] (or now).
+  const idx: number[] = [];
   let j = input.lastIndexAtOrBefore(key, i);
-  const later: { t: number; r: number }[] = [];
   while (j >= 0 && input.times[j]! > lookFrom) {
-    later.push({ t: input.times[j]!, r: input.value(j, key)! });
+    idx.push(j);
     j = input.lastIndexAtOrBefore(key, j - 1);
   }
-  if (j >= 0) points.push({ t: lookFrom, r: input.value(j, key)! });
-  for (let k = later.length - 1; k >= 0; k--) points.push(later[k]!);
-  if (points.length === 0) return { rate: undefined, runningShort: undefined };
-  const segs = points.map((p, k) => ({ start: p.t, end: k + 1 < points.length ? points[k + 1]!.t : now, rate: p.r }));
-  const levels = [...new Set(segs.filter((s) => s.rate > 0 && s.end > from).map((s) => s.rate))].sort((a, b) => b - a);
+  const ts: number[] = [];
+  const rs: number[] = [];
+  if (j >= 0) {
+    ts.push(lookFrom);
+    rs.push(col[j]!);
+  }
+  for (let k = idx.length - 1; k >= 0; k--) {
+    ts.push(input.times[idx[k]!]!);
+    rs.push(col[idx[k]!]!);
+  }
+  const n = ts.length;
+  if (n === 0) return { rate: undefined, runningShort: undefined };
+  const end = (k: number): number => (k + 1 < n ? ts[k + 1]! : now);
   const minMs = minHours * HOUR_MS;
-  for (const c of levels) {
-    let runStart: number | undefined;
-    for (let k = 0; k < segs.length; k++) {
-      const s = segs[k]!;
-      if (s.rate >= c) {
-        if (runStart === undefined) runStart = s.start;
-        const endsHere = k + 1 === segs.length || segs[k + 1]!.rate < c;
-        if (endsHere) {
-          if (s.end > from && s.end - runStart >= minMs) return { rate: c, runningShort: undefined };
-          runStart = undefined;
-        }
-      } else runStart = undefined;
+  // The best span of exactly minHours starts at a segment start or ends at a segment end (a step
+  // function's lowest value over a sliding span changes only there); it must end inside the
+  // window (after `from`) and stay within the charted time.
+  let best = 0;
+  for (let k = 0; k < n; k++) {
+    // Span starting at segment k: segments k, k+1... until the span ends.
+    const a = ts[k]!;
+    const b = a + minMs;
+    if (b > from && b <= now) {
+      let m = rs[k]!;
+      for (let q = k + 1; q < n && ts[q]! < b; q++) m = Math.min(m, rs[q]!);
+      if (m > best) best = m;
+    }
+    // Span ending where segment k ends: segments k, k−1... back to its start.
+    const e = end(k);
+    const s0 = e - minMs;
+    if (e > from && s0 >= ts[0]!) {
+      let m = rs[k]!;
+      for (let q = k - 1; q >= 0 && end(q) > s0; q--) m = Math.min(m, rs[q]!);
+      if (m > best) best = m;
     }
   }
-  const current = segs[segs.length - 1]!;
-  const shortRate = levels.length > 0 ? (current.rate > 0 ? current.rate : levels[0]) : undefined;
+  if (best > 0) return { rate: best, runningShort: undefined };
+  let shortRate: number | undefined;
+  for (let k = 0; k < n; k++) if (end(k) > from && rs[k]! > 0) shortRate = Math.max(shortRate ?? 0, rs[k]!);
+  if (rs[n - 1]! > 0) shortRate = rs[n - 1]!;
   return { rate: undefined, runningShort: shortRate };
 }
 
@@ -300,22 +335,27 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
 
   const lo: Record<string, Extreme | undefined> = {};
   const hi: Record<string, Extreme | undefined> = {};
-  const LOW_KEYS = ['pf_ratio', 'platelets', 'map', 'gcs', 'sbp', 'temp', 'wbc', 'paco2', 'rr', 'hr'];
-  const HIGH_KEYS = ['bilirubin', 'creatinine', 'rr', 'hr', 'temp', 'wbc'];
+  for (const k of WINDOW_KEYS) {
+    const col = input.column(k);
+    let minJ = -1;
+    let maxJ = -1;
+    for (let j = start; j <= i; j++) {
+      const v = col[j]!;
+      if (v !== v) continue; // NaN: not charted
+      if (minJ < 0 || v < col[minJ]!) minJ = j;
+      if (maxJ < 0 || v > col[maxJ]!) maxJ = j;
+    }
+    if (minJ >= 0) {
+      lo[k] = { value: col[minJ]!, time: input.times[minJ]! };
+      hi[k] = { value: col[maxJ]!, time: input.times[maxJ]! };
+    }
+  }
+  const uoCol = input.column('uo_ml');
   let urineTotal = 0;
   let urineEveryRow = true;
   for (let j = start; j <= i; j++) {
-    const t = input.times[j]!;
-    for (const k of LOW_KEYS) {
-      const v = input.value(j, k);
-      if (v !== undefined && (lo[k] === undefined || v < lo[k]!.value)) lo[k] = { value: v, time: t };
-    }
-    for (const k of HIGH_KEYS) {
-      const v = input.value(j, k);
-      if (v !== undefined && (hi[k] === undefined || v > hi[k]!.value)) hi[k] = { value: v, time: t };
-    }
-    const uo = input.value(j, 'uo_ml');
-    if (uo === undefined) urineEveryRow = false;
+    const uo = uoCol[j]!;
+    if (uo !== uo) urineEveryRow = false;
     else urineTotal += uo;
   }
 

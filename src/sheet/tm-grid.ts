@@ -43,7 +43,7 @@ import { formatClock, formatDateTime, formatOffset, parseTimeInput } from './tim
 import { gridStyles } from './tm-grid-styles.js';
 import './tm-column-chooser.js';
 import type { ColumnOption } from './tm-column-chooser.js';
-import type { CellInputEdit } from './undo.js';
+import type { CellInputEdit } from './worksheet.js';
 import { sortRows } from './worksheet.js';
 
 export type { TmColumnsDetail } from './tm-column-chooser.js';

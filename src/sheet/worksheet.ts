@@ -95,8 +95,20 @@ export function setCell(ctx: Ctx, ws: Worksheet, rowId: string, key: string, cel
   return commit(ctx, ws, { rows }, [entry]);
 }
 
+/** One cell edit: the value to store (null clears the cell). */
+export interface CellEdit {
+  rowId: string;
+  key: string;
+  cell: Cell | null;
+}
+
+/** A cell edit with the text the person typed (or pasted). */
+export interface CellInputEdit extends CellEdit {
+  input: string;
+}
+
 /** Sets several cells at once (paste): one change, one log entry per cell. */
-export function setCells(ctx: Ctx, ws: Worksheet, edits: readonly { rowId: string; key: string; cell: Cell | null }[]): Change {
+export function setCells(ctx: Ctx, ws: Worksheet, edits: readonly CellEdit[]): Change {
   const byRow = new Map(ws.rows.map((r) => [r.id, { ...r, cells: { ...r.cells } }]));
   const entries: Omit<EditLogEntry, 'id' | 'at'>[] = [];
   for (const e of edits) {
