@@ -33,6 +33,20 @@ export const CSP = [
   'trusted-types lit-html tidemark-sw',
 ].join('; ');
 
+/**
+ * zod re-exports every message locale through a namespace object (`z.locales`), which defeats
+ * tree-shaking: 64 translations we never use. The app speaks English only, so the bundle gets a
+ * locales module that holds English alone. Nothing else of zod changes.
+ */
+const englishOnlyZodLocales = {
+  name: 'zod-english-only',
+  setup(b) {
+    b.onResolve({ filter: /^\.\.\/locales\/index\.js$/ }, (args) =>
+      /[\\/]zod[\\/]v4[\\/]/.test(args.importer) ? { path: fileURLToPath(new URL('./zod-locales-en.js', import.meta.url)) } : undefined,
+    );
+  },
+};
+
 export async function build({ quiet = false } = {}) {
   const started = performance.now();
   await rm(dist, { recursive: true, force: true });
@@ -50,6 +64,7 @@ export async function build({ quiet = false } = {}) {
     metafile: true,
     logLevel: 'warning',
     define: { 'process.env.NODE_ENV': '"production"' },
+    plugins: [englishOnlyZodLocales],
   });
   const js = await readFile(`${dist}/assets/app.js`);
   const hash = createHash('sha256').update(js).digest('hex').slice(0, 12);
