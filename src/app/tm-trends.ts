@@ -359,6 +359,7 @@ export class TmTrends extends LitElement {
       stroke-dasharray: none;
     }
     .value-label {
+      pointer-events: none;
       font-size: 11px;
       fill: var(--tm-ink, #1c2430);
       font-variant-numeric: tabular-nums;
@@ -692,7 +693,6 @@ export class TmTrends extends LitElement {
         const x = this.x(p.minutes);
         const y = this.y(s, p.value);
         const sel = p.rowId === this.selectedRowId;
-        const above = y - 10 > PAD_T + 2;
         return svg`<g class="pt v-${p.verdict} ${sel ? 'sel' : ''}" data-row=${p.rowId} data-index=${i} data-value=${p.value} data-minutes=${p.minutes}
             transform="translate(${x.toFixed(1)} ${y.toFixed(1)})"
             role="button" tabindex=${i === activeIndex ? 0 : -1}
@@ -710,9 +710,16 @@ export class TmTrends extends LitElement {
           <circle class="hit" r="13"></circle>
           <circle class="ring" r="10"></circle>
           ${this.mark(p)}
-          ${labels[i] ? svg`<text class="value-label v-${p.verdict}" x="0" y=${above ? -10 : 19} text-anchor="middle">${valueText(s.key, p.value)}</text>` : nothing}
         </g>`;
-      })}`;
+      })}
+      <g class="value-labels" aria-hidden="true">
+        ${s.points.map((p, i) => {
+          if (!labels[i]) return nothing;
+          const y = this.y(s, p.value);
+          const above = y - 10 > PAD_T + 2;
+          return svg`<text class="value-label v-${p.verdict}" x=${this.x(p.minutes).toFixed(1)} y=${(above ? y - 10 : y + 19).toFixed(1)} text-anchor="middle">${valueText(s.key, p.value)}</text>`;
+        })}
+      </g>`;
   }
 
   private renderPanel(s: TrendSeries): TemplateResult {
@@ -739,7 +746,7 @@ export class TmTrends extends LitElement {
         ${s.yTicks.map((t) => {
           const y = this.y(s, t);
           return svg`<line class="grid" x1=${LEFT} x2=${W - RIGHT} y1=${y} y2=${y}></line>
-            <text class="tick" x=${LEFT - 6} y=${y + 4} text-anchor="end">${valueText(s.key, t)}</text>`;
+            <text class="tick" x=${LEFT - 6} y=${y + 4} text-anchor="end">${String(Number(t.toPrecision(6)))}</text>`;
         })}
         ${this.xGrid(top, bottom)} ${this.verticals(top, bottom)}
         ${s.points.length === 0

@@ -475,10 +475,11 @@ export function buildTrends(
   const firstRow = timed.length > 0 ? mins(timed[0]!.ms) : 0;
   const nowMin = mins(nowMs);
   const lo = Math.min(0, firstRow, nowMin);
-  let hi = Math.max(lastRow, nowMin, 60);
+  const charted = Math.max(lastRow, nowMin, 60);
+  let hi = charted;
   // Deadlines in the hour ahead widen the axis; later ones are listed at its right edge
   // (`laterDeadlines`) so the charted hours keep their room.
-  for (const mk of markers) if (mk.kind === 'deadline' && mk.minutes <= hi + 60) hi = Math.max(hi, mk.minutes);
+  for (const mk of markers) if (mk.kind === 'deadline' && mk.minutes <= charted + 60) hi = Math.max(hi, mk.minutes);
   const span = hi - lo;
   const xMin = lo - span * 0.03;
   const xMax = hi + span * 0.03;

@@ -263,6 +263,15 @@ describe('axes', () => {
     expect(m.laterDeadlines.map((d) => d.minutes)).toEqual(m.markers.filter((d) => d.kind === 'deadline' && d.minutes > m.xMax).map((d) => d.minutes));
     expect(m.laterDeadlines.some((d) => d.minutes === 180)).toBe(true);
     expect(m.laterDeadlines.some((d) => d.minutes === 60)).toBe(false);
+    // Only the hour after what is charted (15 min) or now (30 min): no chaining from deadline to deadline.
+    const drawn = m.markers.filter((d) => d.kind === 'deadline' && !m.laterDeadlines.includes(d));
+    expect(Math.max(...drawn.map((d) => d.minutes))).toBeLessThanOrEqual(60 + 60);
+    // At 130 min the SEP-1 3 h deadline (180) is within the hour ahead; the hour-1 repeat lactate
+    // (4 h, 240: reference file §2) is not, even though it is within an hour of 180.
+    const later = trends(sheet(ALL_SETS, ROWS.slice(0, 2)), T0 + 130 * MIN);
+    expect(later.xMax).toBeGreaterThanOrEqual(180);
+    expect(later.xMax).toBeLessThan(240);
+    expect(later.laterDeadlines.map((d) => d.minutes)).toContain(240);
   });
 
   it('each value axis holds its points and band edges; ScvO₂ stops at 100 %', () => {

@@ -3,11 +3,15 @@
 import '../../src/app/tm-trends.js';
 import { evaluate, worksheetSetIds } from '../../src/goals/engine.js';
 import { deriveAll } from '../../src/sheet/derived.js';
+import { demoWorksheet } from '../../src/app/demo-scenario.js';
 import { TRENDS_NOW, trendsFixture } from './trends-fixture.js';
 
 const el = document.querySelector('tm-trends')!;
 const params = new URLSearchParams(location.search);
-const ws = trendsFixture(params.has('defaults') ? ['ssc-hour1', 'sep1', 'ssc2021-targets'] : undefined);
+// `?demo` shows the shared fictional demo worksheet (default goal sets; `&egdt` adds EGDT).
+const ws = params.has('demo')
+  ? { ...demoWorksheet(TRENDS_NOW, undefined, 60), ...(params.has('egdt') ? { goalSets: ['ssc-hour1', 'sep1', 'ssc2021-targets', 'egdt'] } : {}) }
+  : trendsFixture(params.has('defaults') ? ['ssc-hour1', 'sep1', 'ssc2021-targets'] : undefined);
 el.worksheet = ws;
 el.derived = deriveAll(ws).rows;
 el.goals = evaluate(ws, worksheetSetIds(ws), TRENDS_NOW);
