@@ -1,6 +1,7 @@
 #!/usr/bin/env node
 // Takes a headless-Chromium screenshot of a running Tidemark page, for looking at what we build.
-// Usage: node scripts/screenshot.mjs URL OUT.png [width] [height] [--wait=ms]
+// Usage: node scripts/screenshot.mjs URL OUT.png [width] [height] [--wait=ms] [--click="Button name"]...
+// Each --click presses the button with that accessible name (inside shadow roots too), in order.
 // Uses playwright-core with the installed Chromium (never downloads a browser).
 import { chromium } from 'playwright-core';
 import { findChrome } from './find-chrome.mjs';
@@ -23,6 +24,10 @@ page.on('console', (m) => {
 });
 await page.goto(url, { waitUntil: 'load', timeout: 180_000 });
 await page.waitForTimeout(wait);
+for (const a of process.argv.filter((x) => x.startsWith('--click='))) {
+  await page.getByRole('button', { name: a.slice(8) }).first().click();
+  await page.waitForTimeout(500);
+}
 await page.screenshot({ path: out, fullPage: true });
 await browser.close();
 console.log(`saved ${out}`);

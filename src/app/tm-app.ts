@@ -9,7 +9,11 @@
 import { provide } from '@lit/context';
 import { LitElement, css, html, nothing } from 'lit';
 import { customElement, property, state } from 'lit/decorators.js';
-import { GOAL_SETS } from '../goals/registry.js';
+import { nextTickMs } from '../goals/clocks.js';
+import { suggestTimeZero } from '../goals/suggest.js';
+import '../goals/tm-time-zero-suggestion.js';
+import type { HighlightEvent } from '../goals/tm-time-zero-suggestion.js';
+import { CUSTOM_SET_ID, defaultRegistry, GOAL_SETS } from '../goals/registry.js';
 import { evaluate, worksheetSetIds } from '../goals/engine.js';
 import type { GoalStatus } from '../goals/status.js';
 import '../goals/tm-goal-panel.js';
@@ -276,10 +280,10 @@ export class TmApp extends LitElement {
     if (this.timer) clearTimeout(this.timer);
     this.now = this.clock.now();
     this.recompute();
-    // Every minute; every second in the last ten minutes before a pending deadline.
-    const soon = this.goals.some((g) => g.status === 'pending' && g.deadline && Date.parse(g.deadline) - this.now <= 10 * 60_000);
-    const step = soon ? 1000 - (this.now % 1000) : 60_000 - (this.now % 60_000);
-    this.timer = setTimeout(() => this.tick(), Math.max(step, 50));
+    // On each minute of the clocks; every second in the last ten minutes before a deadline.
+    const tz = this.snap?.worksheet.timeZero;
+    const next = nextTickMs(this.goals, this.now, tz ? Date.parse(tz.time) : undefined);
+    this.timer = setTimeout(() => this.tick(), Math.min(Math.max(next - this.now, 50), 60_000));
   }
 
   private recompute(): void {
@@ -296,7 +300,9 @@ export class TmApp extends LitElement {
     // Statuses change with the worksheet and with the clock (at second resolution near deadlines).
     const second = Math.floor(this.now / 1000);
     if (!this.goalsFor || this.goalsFor.ws !== ws || this.goalsFor.minute !== second) {
-      this.goals = evaluate(ws, worksheetSetIds(ws), this.now);
+      // Sets saved by another version of the app may be unknown here: skip them rather than fail.
+      const setIds = worksheetSetIds(ws).filter((id) => id === CUSTOM_SET_ID || defaultRegistry.has(id));
+      this.goals = evaluate(ws, setIds, this.now, { derived: this.derivation?.rows ?? [] });
       this.goalsFor = { ws, minute: second };
     }
   }
@@ -543,6 +549,14 @@ export class TmApp extends LitElement {
                         @tm-facts=${(e: FactsEvent) => void this.session?.setFacts(e.patch)}
                         @tm-close=${() => (this.panel = 'none')}
                       ></tm-facts>
+                      <tm-time-zero-suggestion
+                        .suggestions=${suggestTimeZero(ws, this.now)}
+                        .offset=${ws.displayOffset}
+                        .timeZero=${ws.timeZero?.time}
+                        .shockTime=${ws.shockTime}
+                        @tm-facts=${(e: FactsEvent) => void this.session?.setFacts(e.patch)}
+                        @tm-highlight=${(e: HighlightEvent) => (this.highlight = new Set(e.rowIds))}
+                      ></tm-time-zero-suggestion>
                     </div>`
                   : nothing}
                 ${this.panel === 'exports'
