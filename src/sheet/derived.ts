@@ -31,7 +31,7 @@ import { devineIdealWeight, dosingWeight } from './body.js';
 import { compileFormula, reservedNameReason, type CompiledFormula, type Ref, type Resolver, type EvalResult } from './formula-engine.js';
 import { MEASURES } from './measures.js';
 import type { DerivedColumn, Row, Worksheet } from './model.js';
-import { makeScoreInput, scoresAt, type RowScores, type ScoreOptions, DEFAULT_WINDOW_HOURS } from './scores.js';
+import { makeScoreInput, scoresAt, WindowScanner, type RowScores, type ScoreOptions, DEFAULT_WINDOW_HOURS } from './scores.js';
 
 export interface DerivedDef {
   key: string;
@@ -584,9 +584,10 @@ function computeRows(ws: Worksheet, plan: ColumnPlan, options: DeriveOptions, ou
   }
   // Pass 1b: scores, over the final built-in values (columns are built once, on first use).
   const scoreInput = makeScoreInput(p.times, (j, key) => num(rows[j]!, key) ?? out[j]?.values[key]);
+  const scanner = new WindowScanner(scoreInput, options.windowHours ?? DEFAULT_WINDOW_HOURS);
   for (let i = lo; i <= hi; i++) {
     const r = out[i]!;
-    r.scores = scoresAt(scoreInput, i, options);
+    r.scores = scoresAt(scoreInput, i, options, scanner);
     for (const [key, s] of [['sofa', r.scores.sofa], ['qsofa', r.scores.qsofa], ['sirs', r.scores.sirs]] as const) {
       if (Object.keys(s.parts).length > 0) r.values[key] = s.score;
     }

@@ -1,6 +1,7 @@
 // SOFA, qSOFA and SIRS at every cut-off, against Sepsis-3 Table 1 (Singer et al., JAMA 2016,
 // PMC4968574 table T1, adapted from Vincent et al. 1996), Sepsis-3 qSOFA and Bone et al. 1992 /
 // SEP-1 SIRS, as restated in reference/clinical-check-values.md §5–§7 and §15.
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { deriveAll } from '../../src/sheet/derived.js';
 import { parseCellInput } from '../../src/sheet/parse.js';
@@ -12,6 +13,9 @@ import {
   sofaRenalCreatinine,
   sofaRenalUrine,
   sofaRespiration,
+  makeScoreInput,
+  scanWindow,
+  WindowScanner,
   type ScoreOptions,
 } from '../../src/sheet/scores.js';
 import { worksheet, type RowInput } from './sheet-fixture.js';
@@ -311,5 +315,26 @@ describe('score values in deriveAll', () => {
     const d = deriveAll(worksheet({ rows: [{ min: 0, cells: { lactate: 2 } }] }));
     expect(d.rows[0]!.values['sofa']).toBeUndefined();
     expect(d.rows[0]!.values['qsofa']).toBeUndefined();
+  });
+});
+
+describe('window scanning', () => {
+  it('the sliding scanner gives the same extremes as a direct scan, from any starting row (fast-check)', () => {
+    const rowsArb = fc.array(
+      fc.record({ gap: fc.integer({ min: 0, max: 600 }), platelets: fc.option(fc.integer({ min: 10, max: 40 }), { nil: undefined }), gcs: fc.option(fc.integer({ min: 3, max: 6 }), { nil: undefined }) }),
+      { minLength: 1, maxLength: 60 },
+    );
+    fc.assert(
+      fc.property(rowsArb, fc.nat(), fc.constantFrom(1, 6, 24), (rows, startAt, windowHours) => {
+        let t = 0;
+        const times = rows.map((r) => (t += r.gap * 60_000));
+        const input = makeScoreInput(times, (j, key) => (key === 'platelets' ? rows[j]!.platelets : key === 'gcs' ? rows[j]!.gcs : undefined));
+        const scanner = new WindowScanner(input, windowHours);
+        for (let i = startAt % rows.length; i < rows.length; i++) {
+          expect(scanner.at(i)).toEqual(scanWindow(input, i, windowHours));
+        }
+      }),
+      { numRuns: 300 },
+    );
   });
 });
