@@ -43,14 +43,16 @@ interface TrendMeasure {
   interval: boolean;
   /** What to say when no goal set gives this measure a target. */
   noTarget: string;
+  /** Smallest value span of the axis, so one value or a flat run is not magnified (display choice). */
+  minSpan: number;
 }
 
 const MEASURE_INFO: readonly TrendMeasure[] = [
-  { key: 'map', title: 'MAP', fromZero: false, interval: false, noTarget: 'no MAP target in the goal sets in force' },
-  { key: 'lactate', title: 'Lactate', fromZero: true, interval: false, noTarget: 'no lactate target in the goal sets in force' },
-  { key: 'scvo2', title: 'ScvO₂', fromZero: false, ceiling: 100, interval: false, noTarget: 'no ScvO₂ target in the goal sets in force' },
-  { key: 'uo_ml_kg_h', title: 'Urine output', fromZero: true, interval: true, noTarget: 'no urine-output target in the goal sets in force' },
-  { key: 'ne_equivalent', title: 'Norepinephrine equivalent', fromZero: true, interval: false, noTarget: 'a dose, not a goal: no target band' },
+  { key: 'map', title: 'MAP', fromZero: false, interval: false, noTarget: 'no MAP target in the goal sets in force', minSpan: 20 },
+  { key: 'lactate', title: 'Lactate', fromZero: true, interval: false, noTarget: 'no lactate target in the goal sets in force', minSpan: 2 },
+  { key: 'scvo2', title: 'ScvO₂', fromZero: false, ceiling: 100, interval: false, noTarget: 'no ScvO₂ target in the goal sets in force', minSpan: 15 },
+  { key: 'uo_ml_kg_h', title: 'Urine output', fromZero: true, interval: true, noTarget: 'no urine-output target in the goal sets in force', minSpan: 1 },
+  { key: 'ne_equivalent', title: 'Norepinephrine equivalent', fromZero: true, interval: false, noTarget: 'a dose, not a goal: no target band', minSpan: 0.1 },
 ];
 
 /** Short names of the published sets, for band labels (the full title is in the set data). */
@@ -528,6 +530,18 @@ export function buildTrends(
     let yLo = values.length ? Math.min(...values) : 0;
     let yHi = values.length ? Math.max(...values) : 1;
     if (info.fromZero) yLo = Math.min(0, yLo);
+    if (yHi - yLo < info.minSpan) {
+      const grow = info.minSpan - (yHi - yLo);
+      if (info.fromZero && yLo === 0) yHi += grow;
+      else {
+        yLo -= grow / 2;
+        yHi += grow / 2;
+        if (info.ceiling !== undefined && yHi > info.ceiling) {
+          yLo -= yHi - info.ceiling;
+          yHi = info.ceiling;
+        }
+      }
+    }
     const pad = (yHi - yLo) * 0.08;
     if (!info.fromZero) yLo -= pad;
     yHi += pad;
