@@ -226,7 +226,7 @@ export function reservedNameReason(name: string): string | undefined {
   if (own(ALLOWED_FUNCTIONS, name) || own(OPERATOR_WORDS, name)) return `"${name}" is a formula function or word`;
   return undefined;
 }
-const OPERATOR_WORDS: Readonly<Record<string, true>> = { and: true, or: true, not: true, xor: true, mod: true, to: true, in: true, true: true, false: true };
+const OPERATOR_WORDS: Readonly<Record<string, true>> = { and: true, or: true, not: true, xor: true, mod: true, to: true, in: true, true: true, false: true, null: true, undefined: true, end: true };
 
 // --- References and the compiled formula ----------------------------------------------------
 

@@ -505,6 +505,11 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
     sofa.notes.push('Renal: no creatinine, and urine output is not charted for a full 24 h.');
   } else if (urinePts !== undefined && (creatPts === undefined || urinePts > creatPts)) {
     setPart('renal', urinePts, { key: 'uo_ml', value: urinePerDay!, time: input.times[i]! });
+    if (creatPts === undefined && urinePts < 4) {
+      // Creatinine could still raise the part: say so rather than assume it is normal.
+      sofa.missing.push('creatinine');
+      sofa.notes.push('Renal scored from urine output only: no creatinine in the window.');
+    }
   } else {
     setPart('renal', creatPts!, creat ? { key: 'creatinine', ...creat } : undefined);
     if (urinePts === undefined && creatPts! < 4) sofa.notes.push('Renal scored from creatinine only: urine output is not charted for a full 24 h.');

@@ -29,7 +29,10 @@ describe('compileColumns', () => {
   it('refuses keys that would hide a measure, derived key, score, fact, helper or function', () => {
     const plan = compileColumns([
       column('map', 'sbp'), column('fluid_ml_kg', '1'), column('sofa', '1'), column('weight', '1'), column('prev', '1'), column('abs', '1'),
+      column('and', '1'), column('true', '1'),
     ]);
+    expect(plan.errors['and']!.message).toMatch(/formula function or word/);
+    expect(plan.errors['true']!.message).toMatch(/formula function or word/);
     expect(plan.errors['map']!.message).toMatch(/already a charted measure/);
     expect(plan.errors['fluid_ml_kg']!.message).toMatch(/built-in derived/);
     expect(plan.errors['sofa']!.message).toMatch(/already a score/);

@@ -223,6 +223,13 @@ describe('SOFA over the 24 h window', () => {
     expect(gap.notes.join(' ')).toMatch(/creatinine only/);
   });
 
+  it('renal from urine alone still lists creatinine as missing (it could raise the part)', () => {
+    const rows: RowInput[] = [0, 360, 720, 1080, 1440].map((min, k) => ({ min, cells: k === 0 ? { hr: 80 } : { uo_ml: 300 } }));
+    const s = scoresOf(rows).sofa;
+    expect(s.parts.renal).toBe(0); // 1200 mL/day
+    expect(s.missing).toContain('creatinine');
+  });
+
   it('renal is missing with neither creatinine nor 24 h of urine', () => {
     const s = scoresOf([{ min: 0, cells: { uo_ml: 50 } }, { min: 60, cells: { uo_ml: 50 } }]).sofa;
     expect(s.parts.renal).toBeUndefined();
