@@ -670,19 +670,20 @@ export function pointText(s: Pick<TrendSeries, 'key' | 'title' | 'unit'>, p: Tre
 }
 
 /**
- * Plain lines for the note (survive a paste into any record system): one per series with values,
- * then the events. No symbols beyond ASCII-safe words except the units.
+ * Plain lines for the note: one per series with its values since time zero (each marked "(out)"
+ * when out of range) and its targets. Events are left to the note's own timeline. Only rows at or
+ * before the model's `nowMs` count, as in the goal engine. The note folds the text to ASCII and
+ * wraps it (src/export/note.ts).
  */
 export function trendNoteLines(model: TrendModel): string[] {
   const lines: string[] = [model.hasTimeZero ? 'Trends since time zero:' : 'Trends (time zero not set; times from the first row):'];
   for (const s of model.series) {
-    if (s.points.length === 0) continue;
+    const pts = s.points.filter((p) => p.timeMs <= model.nowMs);
+    if (pts.length === 0) continue;
     const u = s.unit ? ` ${s.unit}` : '';
-    const seq = s.points.map((p) => `${valueText(s.key, p.value)}${p.verdict === 'above' || p.verdict === 'below' ? ' (out)' : ''} at ${minutesLabel(p.minutes)}`).join(', ');
+    const seq = pts.map((p) => `${valueText(s.key, p.value)}${p.verdict === 'above' || p.verdict === 'below' ? ' (out)' : ''} at ${minutesLabel(p.minutes)}`).join(', ');
     const target = s.bands.length ? `; target ${s.bands.map((b) => `${b.rangeText} (${b.sets.join(', ')})`).join('; ')}` : '';
     lines.push(`- ${s.title}${u}: ${seq}${target}`);
   }
-  const events = model.markers.filter((m) => m.kind === 'fluid' || m.kind === 'blood' || m.kind === 'antibiotic' || m.kind === 'cultures');
-  if (events.length) lines.push(`- Events: ${events.map((m) => `${m.kind === 'fluid' ? `crystalloid ${m.short}` : m.kind === 'blood' ? `blood ${m.short}` : m.kind === 'antibiotic' ? `antibiotic ${m.short}` : 'cultures'} at ${minutesLabel(m.minutes)}`).join(', ')}`);
   return lines;
 }
