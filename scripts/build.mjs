@@ -47,10 +47,11 @@ const englishOnlyZodLocales = {
   },
 };
 
-export async function build({ quiet = false } = {}) {
+/** Builds into `outDir` (default dist/; tests build into a temporary folder of their own). */
+export async function build({ quiet = false, outDir = dist } = {}) {
   const started = performance.now();
-  await rm(dist, { recursive: true, force: true });
-  await mkdir(`${dist}/assets`, { recursive: true });
+  await rm(outDir, { recursive: true, force: true });
+  await mkdir(`${outDir}/assets`, { recursive: true });
   const result = await esbuild.build({
     entryPoints: [`${root}src/app/main.ts`],
     bundle: true,
@@ -59,27 +60,27 @@ export async function build({ quiet = false } = {}) {
     target: 'es2022',
     conditions: ['production'],
     tsconfig: `${root}tsconfig.json`,
-    outfile: `${dist}/assets/app.js`,
+    outfile: `${outDir}/assets/app.js`,
     legalComments: 'external',
     metafile: true,
     logLevel: 'warning',
     define: { 'process.env.NODE_ENV': '"production"' },
     plugins: [englishOnlyZodLocales],
   });
-  const js = await readFile(`${dist}/assets/app.js`);
+  const js = await readFile(`${outDir}/assets/app.js`);
   const hash = createHash('sha256').update(js).digest('hex').slice(0, 12);
 
   const html = (await readFile(`${root}index.html`, 'utf8'))
     .replace('<script type="module" src="/src/app/main.ts"></script>', '<script type="module" src="./assets/app.js"></script>')
     .replace('<meta charset="utf-8" />', `<meta charset="utf-8" />\n    <meta http-equiv="Content-Security-Policy" content="${CSP}" />\n    <link rel="manifest" href="./manifest.webmanifest" />`);
-  await writeFile(`${dist}/index.html`, html);
+  await writeFile(`${outDir}/index.html`, html);
   await writeFile(
-    `${dist}/manifest.webmanifest`,
+    `${outDir}/manifest.webmanifest`,
     JSON.stringify({ name: 'Tidemark', short_name: 'Tidemark', start_url: './', display: 'standalone', background_color: '#f6f4ef', theme_color: '#1c2430' }, null, 2),
   );
   const shell = ['./', './index.html', './assets/app.js', './manifest.webmanifest'];
   const sw = (await readFile(`${root}src/app/sw.js`, 'utf8')).replace('__CACHE__', `tidemark-${hash}`).replace("'__SHELL__'", JSON.stringify(shell));
-  await writeFile(`${dist}/sw.js`, sw);
+  await writeFile(`${outDir}/sw.js`, sw);
 
   const gz = gzipSync(js, { level: 9 }).length;
   const stats = { bytes: js.length, gzipBytes: gz, hash, ms: Math.round(performance.now() - started), metafile: result.metafile };
