@@ -32,6 +32,11 @@ import './tm-exports.js';
 import './tm-facts.js';
 import type { FactsEvent } from './tm-facts.js';
 import './tm-notebook.js';
+import './tm-trends.js';
+import './tm-units.js';
+import type { UnitsEvent } from './tm-units.js';
+import { DisplayUnitPrefs, DUAL_UNIT_KEYS, displayUnit } from '../sheet/display-units.js';
+import type { UnitDef } from '../sheet/measures.js';
 import type { NotebookEntry, NotebookEvent } from './tm-notebook.js';
 
 const BASIS_WORDS: Record<string, string> = {
@@ -207,6 +212,10 @@ export class TmApp extends LitElement {
         padding: 0 4px;
         background: var(--tm-surface);
       }
+      .trends {
+        display: block;
+        margin-top: 16px;
+      }
       .empty {
         padding: 24px;
         border: 1px dashed var(--tm-line);
@@ -235,8 +244,14 @@ export class TmApp extends LitElement {
   @state() private highlight: ReadonlySet<string> = new Set();
   @state() private panel: Panel = 'none';
   @state() private railHidden = false;
+  @state() private showTrends = true;
+  /** The row the user is on in the grid (marked on the trends). */
+  @state() private activeRow: string | null = null;
   @state() private message = '';
   @state() private blocked = '';
+  @state() private unitPrefs: DisplayUnitPrefs = {};
+  /** The units the grid shows, kept as one object so the grid re-renders only when they change. */
+  @state() private unitMap: ReadonlyMap<string, UnitDef> = unitMapOf({});
 
   private session?: WorksheetSession;
   private unsubscribe?: () => void;
@@ -267,6 +282,11 @@ export class TmApp extends LitElement {
   private async load(): Promise<void> {
     this.unwatch?.();
     await this.refreshListing();
+    const units = DisplayUnitPrefs.safeParse(await this.store?.getMeta('displayUnits').catch(() => undefined));
+    if (units.success) {
+      this.unitPrefs = units.data;
+      this.unitMap = unitMapOf(units.data);
+    }
     const last = this.store ? await this.store.getMeta('lastOpen').catch(() => undefined) : undefined;
     const first =
       this.listing.summaries.find((s) => s.id === last && !s.archived) ?? this.listing.summaries.find((s) => !s.archived);
@@ -391,6 +411,13 @@ export class TmApp extends LitElement {
     await this.refreshListing();
   }
 
+  /** Follows the grid's active row (its cells carry data-row) to mark it on the trends. */
+  private onGridFocus(e: FocusEvent): void {
+    const el = e.composedPath()[0];
+    const row = el instanceof HTMLElement ? el.closest<HTMLElement>('[data-row]')?.dataset['row'] : undefined;
+    if (row && row !== this.activeRow) this.activeRow = row;
+  }
+
   private onKey = (e: KeyboardEvent): void => {
     if (!e.altKey || e.ctrlKey || e.metaKey) return;
     const k = e.key.toLowerCase();
@@ -443,6 +470,7 @@ export class TmApp extends LitElement {
         <button @click=${() => (this.panel = this.panel === 'exports' ? 'none' : 'exports')} aria-expanded=${this.panel === 'exports'}>
           Export
         </button>
+        <button @click=${() => (this.showTrends = !this.showTrends)} aria-pressed=${this.showTrends ? 'true' : 'false'}>Trends</button>
         <button @click=${() => (this.railHidden = !this.railHidden)} aria-pressed=${this.railHidden ? 'false' : 'true'}>Worksheets</button>
       </div>
     </div>`;
@@ -511,6 +539,13 @@ export class TmApp extends LitElement {
     });
   }
 
+  private async setUnits(prefs: DisplayUnitPrefs): Promise<void> {
+    this.unitPrefs = prefs;
+    this.unitMap = unitMapOf(prefs);
+    const r = await this.store?.setMeta('displayUnits', prefs);
+    if (r && !r.ok) this.message = `Your unit choice was not saved: ${r.message}`;
+  }
+
   private entries(): NotebookEntry[] {
     return this.listing.summaries.map((s) => {
       const e: NotebookEntry = { id: s.id, label: s.label, archived: s.archived, updatedAt: s.updatedAt, rows: s.rowCount };
@@ -533,6 +568,7 @@ export class TmApp extends LitElement {
           ? nothing
           : html`<aside class="rail">
               <tm-notebook .entries=${this.entries()} .currentId=${ws?.id} @tm-notebook=${(e: NotebookEvent) => void this.onNotebook(e)}></tm-notebook>
+              <tm-units .prefs=${this.unitPrefs} @tm-units=${(e: UnitsEvent) => void this.setUnits(e.prefs)}></tm-units>
               <p class="keys">
                 Keys: <kbd>Alt</kbd>+<kbd>S</kbd> worksheet, <kbd>Alt</kbd>+<kbd>G</kbd> goals, <kbd>Alt</kbd>+<kbd>W</kbd> worksheets,
                 <kbd>Alt</kbd>+<kbd>F</kbd> facts, <kbd>Alt</kbd>+<kbd>E</kbd> export, <kbd>Alt</kbd>+<kbd>N</kbd> new row.
@@ -576,6 +612,7 @@ export class TmApp extends LitElement {
                   .derived=${this.derivation?.rows ?? []}
                   .pending=${this.snap?.pending ?? new Map()}
                   .highlightRows=${this.highlight}
+                  .displayUnits=${this.unitMap}
                   .now=${this.now}
                   @tm-edit=${(e: CustomEvent) => void this.session?.editCells(e.detail.edits)}
                   @tm-paste=${(e: CustomEvent) => void this.session?.paste(e.detail.newRows, e.detail.edits)}
@@ -585,7 +622,20 @@ export class TmApp extends LitElement {
                   @tm-columns=${(e: CustomEvent) => void this.session?.setColumns(e.detail.columns)}
                   @tm-undo=${() => void this.session?.undo()}
                   @tm-redo=${() => void this.session?.redo()}
-                ></tm-grid>`
+                  @focusin=${(e: FocusEvent) => this.onGridFocus(e)}
+                ></tm-grid>
+                ${this.showTrends
+                  ? html`<tm-trends
+                      class="trends"
+                      .worksheet=${ws}
+                      .derived=${this.derivation?.rows ?? []}
+                      .goals=${this.goals}
+                      .now=${this.now}
+                      .selectedRowId=${this.activeRow}
+                      @tm-point=${(e: CustomEvent<{ rowId: string | null }>) =>
+                        (this.highlight = e.detail.rowId ? new Set([e.detail.rowId]) : new Set())}
+                    ></tm-trends>`
+                  : nothing}`
             : html`<div class="empty">
                 <p><strong>Tidemark keeps a timed worksheet of a sepsis resuscitation and shows which bundle goals are still open.</strong></p>
                 <p>Open a worksheet from the list, or start a new one with a bed or case code.</p>
@@ -608,6 +658,16 @@ export class TmApp extends LitElement {
       </div>
     `;
   }
+}
+
+/** Units the grid shows for the measures with a choice. */
+function unitMapOf(prefs: DisplayUnitPrefs): ReadonlyMap<string, UnitDef> {
+  const m = new Map<string, UnitDef>();
+  for (const key of DUAL_UNIT_KEYS) {
+    const u = displayUnit(key, prefs);
+    if (u) m.set(key, u);
+  }
+  return m;
 }
 
 /** The device's offset from UTC at an instant, in minutes (the default for a new worksheet). */

@@ -149,6 +149,27 @@ describe('tm-app: goals on fake time', () => {
     expect(goal(app, 'ssc-hour1.lactate')?.minutesFromTimeZero).to.equal(10);
   });
 
+  it('turns the lactate goal met when a row with a lactate is added', async () => {
+    // Hour-1 bundle element 1: measure lactate within the first hour (Levy 2018; reference file §2).
+    const clock = new FixedClock(T0 + 20 * 60_000);
+    const ctx = { clock };
+    let ws = createWorksheet(ctx, { label: 'Lactate due (fictional)', displayOffset: 0, weightKg: 70 });
+    ws = setFacts(ctx, ws, { timeZero: { time: new Date(T0).toISOString(), offset: 0, basis: 'triage' } }).worksheet;
+    ws = addRow(ctx, ws, new Date(T0 + 5 * 60_000).toISOString(), 0, { map: { value: 70 } }).worksheet;
+    const store = await open(dbName());
+    await store.create(ws);
+    const app = await mount(store, clock);
+    await until('lactate goal', () => goal(app, 'ssc-hour1.lactate'));
+    expect(goal(app, 'ssc-hour1.lactate')?.status).to.equal('pending');
+    expect(goal(app, 'ssc-hour1.lactate')?.minutesLeft).to.equal(40);
+    const app2 = app as unknown as { session: { addRow(t: string, o: number, c: object): { saved: Promise<boolean> } } };
+    await app2.session.addRow(new Date(T0 + 18 * 60_000).toISOString(), 0, { lactate: { value: 3.1 } }).saved;
+    await until('lactate met', () => goal(app, 'ssc-hour1.lactate')?.status === 'met');
+    expect(goal(app, 'ssc-hour1.lactate')?.minutesFromTimeZero).to.equal(18);
+    const item = await until('the met goal item', () => panel(app)?.shadowRoot?.querySelector('[data-goal="ssc-hour1.lactate"]'));
+    expect(item.textContent).to.match(/Met/);
+  });
+
   it('makes the repeat-lactate goal not applicable when the first lactate is 2.0 or less', async () => {
     // Re-measure only if the initial lactate is > 2 mmol/L (Levy 2018 Table 1; reference file §15 #8).
     const clock = new FixedClock(T0 + 30 * 60_000);
