@@ -327,7 +327,7 @@ interface Token {
 /** Identifiers in the text with their 1-based positions, skipping quoted text. */
 function identifiers(text: string): Token[] {
   const out: Token[] = [];
-  const re = /"(?:[^"\\]|\\.)*"?|'(?:[^'\\]|\\.)*'?|[A-Za-z_$\u00C0-\uFFFF][A-Za-z0-9_$\u00C0-\uFFFF]*|\d+(?:\.\d*)?(?:[eE][+-]?\d+)?/g;
+  const re = /"(?:[^"\\]|\\.)*"?|'(?:[^'\\]|\\.)*'?|[A-Za-z_$\u00C0-\uFFFF][A-Za-z0-9_$\u00C0-\uFFFF]*|0[xXbBoO][0-9a-fA-F]+|\d*\.?\d+(?:[eE][+-]?\d+)?/g;
   let m: RegExpExecArray | null;
   while ((m = re.exec(text)) !== null) {
     const s = m[0];
@@ -473,6 +473,9 @@ function walk(node: MathNode, state: WalkState, depth: number): void {
       const fn = n['fn'] as string;
       const op = n['op'] as string;
       const args = n['args'] as MathNode[];
+      if (n['isPercentage'] === true) {
+        refuse(state, 'the per-cent sign after a value is not allowed: write / 100 (and use mod for a remainder).', findFirst(state.text, /%/));
+      }
       if (!OPERATORS.has(fn)) {
         const why = (own(REFUSED_OPERATORS, fn) ? REFUSED_OPERATORS[fn] : undefined) ?? `the operator "${op}" is not allowed`;
         const pos = /^[a-z]+$/.test(op) ? findIdentifier(state.text, op) : findFirst(state.text, new RegExp(op.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')));
@@ -561,6 +564,24 @@ function walk(node: MathNode, state: WalkState, depth: number): void {
   }
 }
 
+/**
+ * Every name in the text must be in the parsed tree. Defensive: mathjs has corners where text
+ * after an operator is dropped without an error (seen with the per-cent sign); a formula whose
+ * text was not all read is refused rather than computed from part of it.
+ */
+function checkEverythingRead(text: string, tree: MathNode): void {
+  const read = new Set<string>();
+  tree.traverse((node: MathNode) => {
+    const n = node as unknown as Record<string, unknown>;
+    if (node.type === 'SymbolNode') read.add(n['name'] as string);
+    else if (node.type === 'OperatorNode' && /^[a-z]+$/.test(n['op'] as string)) read.add(n['op'] as string);
+    else if (node.type === 'ConstantNode') read.add(String(n['value']));
+  });
+  for (const t of identifiers(text)) {
+    if (!read.has(t.text)) throw new Refusal(`${at(t.pos)}"${t.text}" was not read as part of the formula; is something out of place before it?`, t.pos);
+  }
+}
+
 function synthName(ref: Ref): string {
   switch (ref.kind) {
     case 'value':
@@ -599,6 +620,11 @@ function compileOrThrow(text: string, options: CompileOptions): CompileResult {
   for (const c of options.columns ?? []) columns.add(c);
   const names = new Set<string>([...keys, ...Object.keys(FACTS), ...columns]);
 
+  // Comments are never part of a formula; refusing them before parsing also avoids text that the
+  // parser would silently drop.
+  const hash = findFirst(text, /#/);
+  if (hash !== undefined) return { ok: false, error: `${at(hash)}comments (#) are not allowed in formulas.`, position: hash };
+
   let tree: MathNode;
   try {
     tree = parseExpression(text);
@@ -619,6 +645,10 @@ function compileOrThrow(text: string, options: CompileOptions): CompileResult {
   }
   const state: WalkState = { text, names, helperKeys, columns, nodes: 0 };
   walk(tree, state, 0);
+  checkEverythingRead(text, tree);
+  // Quotes that survived the walk were dropped by the parser: refuse them too.
+  const quote = findFirst(text, /["'`]/);
+  if (quote !== undefined) return { ok: false, error: `${at(quote)}text in quotes (and the transpose mark ') is not allowed in formulas.`, position: quote };
 
   // Rename every reference to a private symbol; rewrite helpers and `x ?? y`.
   const table = new Map<string, { ref: Ref; presence: boolean }>();

@@ -129,8 +129,8 @@ describe('fluids and urine', () => {
   it('P/F, CO2 gap and shock index', () => {
     const ws = worksheet({ rows: [{ min: 0, cells: { pao2: 80, fio2: 0.4, pcvco2: 52, paco2: 44, hr: 120, sbp: 100 } }] });
     const v = deriveWorksheet(ws)[0]!.values;
-    expect(v['pf_ratio']).toBe(200);
-    expect(v['co2_gap']).toBe(8); // > 6 mmHg suggests low flow (reference §11)
-    expect(v['shock_index']).toBe(1.2);
+    expect(v['pf_ratio']).toBe(200); // PaO2/FiO2, Sepsis-3 Table 1 respiration
+    expect(v['co2_gap']).toBe(8); // PcvCO2 − PaCO2; > 6 mmHg suggests low flow (Vallée / van Beest, reference §11)
+    expect(v['shock_index']).toBe(1.2); // HR / SBP, common practice, no source
   });
 });

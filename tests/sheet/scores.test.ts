@@ -224,7 +224,7 @@ describe('SOFA over the 24 h window', () => {
   });
 
   it('renal from urine alone still lists creatinine as missing (it could raise the part)', () => {
-    const rows: RowInput[] = [0, 360, 720, 1080, 1440].map((min, k) => ({ min, cells: k === 0 ? { hr: 80 } : { uo_ml: 300 } }));
+    const rows: RowInput[] = [0, 360, 720, 1080, 1440].map((min, k): RowInput => ({ min, cells: k === 0 ? { hr: 80 } : { uo_ml: 300 } }));
     const s = scoresOf(rows).sofa;
     expect(s.parts.renal).toBe(0); // 1200 mL/day
     expect(s.missing).toContain('creatinine');
