@@ -28,6 +28,12 @@ for (const a of process.argv.filter((x) => x.startsWith('--click='))) {
   await page.getByRole('button', { name: a.slice(8) }).first().click();
   await page.waitForTimeout(500);
 }
-await page.screenshot({ path: out, fullPage: true });
+if (process.argv.includes('--print')) await page.emulateMedia({ media: 'print' });
+// --clip=Y:H keeps one band of a long page (easier to look at).
+const clip = process.argv.find((a) => a.startsWith('--clip='));
+const [cy, ch] = clip ? clip.slice(7).split(':').map(Number) : [];
+await page.screenshot(
+  clip ? { path: out, fullPage: true, clip: { x: 0, y: cy ?? 0, width: Number(w), height: ch ?? Number(h) } } : { path: out, fullPage: true },
+);
 await browser.close();
 console.log(`saved ${out}`);

@@ -25,7 +25,9 @@ import '../sheet/tm-grid.js';
 import { formatClock, formatDuration, formatOffset } from '../sheet/time.js';
 import { createWorksheet, setFacts } from '../sheet/worksheet.js';
 import type { NotebookListing, Store } from '../storage/store.js';
+import { CAUTION } from './caution.js';
 import { clockContext } from './contexts.js';
+import './tm-print.js';
 import { WorksheetSession, type SessionSnapshot } from './session.js';
 import { controls, themeVars } from './theme.js';
 import './tm-exports.js';
@@ -46,9 +48,6 @@ const BASIS_WORDS: Record<string, string> = {
   other: 'other',
 };
 
-/** The caution shown on every screen. */
-export const CAUTION =
-  'Decision support only. Goals and defaults follow published guidance; check them against your local protocols and your own licensed clinical judgment.';
 
 type Panel = 'none' | 'facts' | 'exports';
 
@@ -215,6 +214,22 @@ export class TmApp extends LitElement {
       .trends {
         display: block;
         margin-top: 16px;
+      }
+      .print-only {
+        display: none;
+      }
+      @media print {
+        :host {
+          background: #fff;
+        }
+        .print-only {
+          display: block;
+        }
+        .top,
+        .banner,
+        .layout {
+          display: none;
+        }
       }
       .empty {
         padding: 24px;
@@ -557,6 +572,9 @@ export class TmApp extends LitElement {
   override render() {
     const ws = this.snap?.worksheet;
     return html`
+      ${ws
+        ? html`<tm-print class="print-only" .worksheet=${ws} .derived=${this.derivation?.rows ?? []} .goals=${this.goals} .now=${this.now}></tm-print>`
+        : nothing}
       <header class="top">
         <div class="brand">Tidemark<small>resuscitation worksheet</small></div>
         <p class="caution" role="note">${CAUTION}</p>
