@@ -228,6 +228,14 @@ export const gridStyles = css`
     box-shadow: inset 0 0 0 2px var(--tm-bad);
   }
 
+  /* Stand-ins for rows not rendered in a long worksheet; tm-grid sets each one's height. */
+  tr.gap > td {
+    height: 0;
+    padding: 0;
+    border: 0;
+    background: transparent;
+  }
+
   /* Rows picked out by the goal panel: a bar, a tint, and a marker in the row header. */
   tr.hl > th.time, tr.hl > td {
     background-image: linear-gradient(var(--tm-accent-tint), var(--tm-accent-tint));

@@ -10,6 +10,13 @@
  * order too and fills downwards without reversing, (3) "Enter stores and moves down" then moves
  * forward in time, and (4) the "Add row" controls sit directly under the newest row.
  *
+ * Long worksheets (more than VIRTUALISE_ABOVE rows) are virtualised: only the rows in and near
+ * the scroller's viewport are in the DOM, plus the active row wherever it is (so the roving tab
+ * stop always exists), with spacer rows standing in for the rest. The table keeps its grid roles:
+ * `aria-rowcount` counts every row and each rendered row keeps its `aria-rowindex`, so screen
+ * readers announce positions in the whole worksheet; keys move through every row because moving
+ * the active cell renders its row first and focusing it scrolls it into view.
+ *
  * Data goes down as properties; intent comes up as events (bubbling, composed). The element
  * never changes the worksheet itself: the owner applies each event and passes the new worksheet
  * back down.
@@ -76,6 +83,17 @@ const TIME_COL = '@time';
 const NOTE_MS = 6000;
 /** Most preview lines listed per section; the counts always cover everything. */
 const PREVIEW_LIMIT = 200;
+/** Worksheets with more rows than this render only the rows near the viewport. */
+export const VIRTUALISE_ABOVE = 60;
+/** Rows rendered beyond each edge of the viewport when virtualised. */
+const OVERSCAN = 10;
+/** Row height assumed until one is measured (th/td are 3rem high). */
+const ROW_PX_GUESS = 48;
+/** Viewport height assumed before the scroller has been laid out. */
+const VIEW_PX_GUESS = 640;
+
+/** What the table body shows: rows, and spacers standing in for rows not rendered. */
+type BodyItem = { kind: 'row'; row: Row; index: number } | { kind: 'gap'; key: string; rows: number };
 
 type CellNote = { rowId: string; key: string; text: string; kind: 'warn' | 'error' };
 
@@ -147,10 +165,123 @@ export class TmGrid extends LitElement {
   private noteTimer: ReturnType<typeof setTimeout> | undefined;
   /** The message bubble shown after the last update, to scroll a new one into view once. */
   private shownBubble: string | null = null;
+  /** Virtualisation: rendered window [first, last) of row positions, and the measured row height. */
+  private windowFirst = 0;
+  private windowLast = 0;
+  private rowPx = ROW_PX_GUESS;
+  /** A row to bring into view once it is rendered (a highlighted row far from the viewport). */
+  private revealRowId: string | null = null;
+  private scrollerEl: HTMLElement | null = null;
+  private readonly onScroll = (): void => {
+    if (!this.virtual()) return;
+    const [first, last] = this.windowAround();
+    if (first !== this.windowFirst || last !== this.windowLast) this.requestUpdate();
+  };
 
   override disconnectedCallback(): void {
     super.disconnectedCallback();
     if (this.noteTimer !== undefined) clearTimeout(this.noteTimer);
+    this.scrollerEl?.removeEventListener('scroll', this.onScroll);
+    this.scrollerEl = null;
+  }
+
+  /** Puts keyboard focus on the active cell (the grid's one tab stop). */
+  async focusActiveCell(): Promise<void> {
+    await this.updateComplete;
+    this.focusActive();
+  }
+
+  // --- Virtualisation ----------------------------------------------------------------------------
+
+  /** Whether only the rows near the viewport are rendered. */
+  private virtual(): boolean {
+    return this.rows.length > VIRTUALISE_ABOVE;
+  }
+
+  /** The window of rows to render for the scroller's current position: [first, last). */
+  private windowAround(): [number, number] {
+    const n = this.rows.length;
+    if (!this.virtual()) return [0, n];
+    const s = this.scrollerEl;
+    const view = s && s.clientHeight > 0 ? s.clientHeight : VIEW_PX_GUESS;
+    const perView = Math.ceil(view / this.rowPx) + 1;
+    if (!s || this.scrollToEnd) {
+      // Before layout, and when about to scroll to the newest row: the last rows.
+      return [Math.max(0, n - perView - OVERSCAN), n];
+    }
+    const head = (s.querySelector('thead') as HTMLElement | null)?.offsetHeight ?? 0;
+    const top = Math.max(0, s.scrollTop - head);
+    const first = Math.max(0, Math.min(n - 1, Math.floor(top / this.rowPx)) - OVERSCAN);
+    const last = Math.min(n, Math.floor(top / this.rowPx) + perView + OVERSCAN);
+    return [first, Math.max(first + 1, last)];
+  }
+
+  /**
+   * The table body: the window's rows, the active row and a row waiting to be revealed wherever
+   * they are, and one spacer for each run of rows in between that is not rendered.
+   */
+  private bodyItems(): BodyItem[] {
+    const n = this.rows.length;
+    const [first, last] = this.windowAround();
+    this.windowFirst = first;
+    this.windowLast = last;
+    const out: BodyItem[] = [];
+    if (!this.virtual()) {
+      this.rows.forEach((row, index) => out.push({ kind: 'row', row, index }));
+      return out;
+    }
+    const extra = new Set<number>();
+    for (const id of [this.activeRowId, this.revealRowId, this.deleteRowId]) {
+      if (!id) continue;
+      const i = this.rows.findIndex((r) => r.id === id);
+      if (i >= 0 && (i < first || i >= last)) extra.add(i);
+    }
+    const shown = [...extra, ...Array.from({ length: last - first }, (_, k) => first + k)].sort((a, b) => a - b);
+    let next = 0;
+    let gaps = 0;
+    for (const i of shown) {
+      if (i > next) out.push({ kind: 'gap', key: `gap-${gaps++}`, rows: i - next });
+      out.push({ kind: 'row', row: this.rows[i]!, index: i });
+      next = i + 1;
+    }
+    if (next < n) out.push({ kind: 'gap', key: `gap-${gaps++}`, rows: n - next });
+    return out;
+  }
+
+  /** Sizes the spacer rows (through the CSSOM: the CSP allows no style attributes) and learns the row height. */
+  private layoutSpacers(): void {
+    const body = this.renderRoot.querySelector('tbody');
+    if (!body) return;
+    if (this.virtual()) {
+      const heights = [...body.querySelectorAll<HTMLElement>('tr[role="row"]')]
+        .slice(0, 24)
+        .map((r) => r.offsetHeight)
+        .filter((h) => h > 0)
+        .sort((a, b) => a - b);
+      const median = heights[Math.floor(heights.length / 2)];
+      if (median !== undefined && Math.abs(median - this.rowPx) >= 0.5) {
+        this.rowPx = median;
+        const [first, last] = this.windowAround();
+        if (first !== this.windowFirst || last !== this.windowLast) this.requestUpdate();
+      }
+    }
+    for (const gap of body.querySelectorAll<HTMLElement>('tr.gap')) {
+      gap.style.height = `${Number(gap.dataset['rows'] ?? 0) * this.rowPx}px`;
+    }
+  }
+
+  /** Brings a row into view, rendering it first when the worksheet is virtualised. */
+  private revealRow(rowId: string): void {
+    const el = this.renderRoot.querySelector(`tbody tr[role="row"][data-row-id="${CSS.escape(rowId)}"]`);
+    if (el) {
+      this.revealRowId = null;
+      el.scrollIntoView({ block: 'nearest' });
+      return;
+    }
+    if (this.revealRowId !== rowId) {
+      this.revealRowId = rowId;
+      this.requestUpdate();
+    }
   }
 
   // --- Derived view state ----------------------------------------------------------------------
@@ -180,7 +311,8 @@ export class TmGrid extends LitElement {
       this.deleteRowId = null;
       this.scrollToEnd = true;
     }
-    this.rows = ws ? sortRows(ws.rows) : [];
+    // Commands keep rows sorted; sort only what is not (an O(n) check instead of a sort per edit).
+    this.rows = !ws ? [] : isSorted(ws.rows) ? (ws.rows as Row[]) : sortRows(ws.rows);
     if (!ws) this.cols = [];
     else if (!this.colsFrom || this.colsFrom[0] !== ws.columns || this.colsFrom[1] !== ws.derivedColumns) {
       this.cols = gridColumns(ws);
@@ -242,7 +374,7 @@ export class TmGrid extends LitElement {
   /** Rows in one visible page of the scroller, less one so the old edge row stays in view (APG). */
   private pageRows(): number {
     const scroller = this.scroller;
-    const rowEl = scroller?.querySelector('tbody tr') as HTMLElement | null;
+    const rowEl = scroller?.querySelector('tbody tr[role="row"]') as HTMLElement | null;
     const headEl = scroller?.querySelector('thead') as HTMLElement | null;
     if (!scroller || !rowEl || rowEl.offsetHeight === 0) return 10;
     return Math.max(1, Math.floor((scroller.clientHeight - (headEl?.offsetHeight ?? 0)) / rowEl.offsetHeight) - 1);
@@ -265,6 +397,13 @@ export class TmGrid extends LitElement {
   protected override updated(changed: PropertyValues<this>): void {
     const pos = this.activePos();
     if (pos) this.lastPos = pos;
+    const scroller = this.scroller ?? null;
+    if (scroller !== this.scrollerEl) {
+      this.scrollerEl?.removeEventListener('scroll', this.onScroll);
+      scroller?.addEventListener('scroll', this.onScroll, { passive: true });
+      this.scrollerEl = scroller;
+    }
+    this.layoutSpacers();
     if (this.scrollToEnd && this.rows.length > 0 && this.scroller) {
       this.scrollToEnd = false;
       this.scroller.scrollTop = this.scroller.scrollHeight;
@@ -280,7 +419,10 @@ export class TmGrid extends LitElement {
     }
     this.shownBubble = bubble;
     if (changed.has('highlightRows') && this.highlightRows.size > 0) {
-      this.renderRoot.querySelector('tr.hl')?.scrollIntoView({ block: 'nearest' });
+      const first = this.rows.find((r) => this.highlightRows.has(r.id));
+      if (first) this.revealRow(first.id);
+    } else if (this.revealRowId) {
+      this.revealRow(this.revealRowId);
     }
   }
 
@@ -826,7 +968,7 @@ export class TmGrid extends LitElement {
 
   private renderRow(ws: Worksheet, row: Row, index: number): TemplateResult {
     const highlighted = this.highlightRows.has(row.id);
-    return html`<tr role="row" aria-rowindex=${index + 2} class=${highlighted ? 'hl' : ''}>
+    return html`<tr role="row" aria-rowindex=${index + 2} class=${highlighted ? 'hl' : ''} data-row-id=${row.id}>
       ${this.renderRowHeader(ws, row, index, highlighted)}
       ${this.cols.map((col, c) => this.renderCell(ws, row, col, c + 1))}
     </tr>`;
@@ -918,7 +1060,16 @@ export class TmGrid extends LitElement {
           @copy=${this.onCopy}
         >
           ${this.renderHeader(ws)}
-          <tbody>${repeat(this.rows, (r) => r.id, (r, i) => guard(this.rowDeps(ws, r, i), () => this.renderRow(ws, r, i)))}</tbody>
+          <tbody>
+            ${repeat(
+              this.bodyItems(),
+              (item) => (item.kind === 'row' ? item.row.id : item.key),
+              (item) =>
+                item.kind === 'row'
+                  ? guard(this.rowDeps(ws, item.row, item.index), () => this.renderRow(ws, item.row, item.index))
+                  : html`<tr class="gap" aria-hidden="true" data-rows=${item.rows}><td colspan=${this.cols.length + 1}></td></tr>`,
+            )}
+          </tbody>
         </table>
         ${this.rows.length === 0
           ? html`<p class="empty" tabindex="0">
@@ -974,6 +1125,12 @@ export class TmGrid extends LitElement {
       </dialog>
     </div>`;
   }
+}
+
+/** Whether rows are in time order (ISO instants in UTC compare as strings). */
+function isSorted(rows: readonly Row[]): boolean {
+  for (let i = 1; i < rows.length; i++) if (rows[i - 1]!.time > rows[i]!.time) return false;
+  return true;
 }
 
 /** Event names and their details, for `emit` and for listeners. */
