@@ -142,7 +142,7 @@ export class TmCustomGoals extends LitElement {
       .rows-line {
         margin: 0;
       }
-      .rows-line .what {
+      .rows-line .lead {
         font-weight: 600;
       }
       .verdict {
@@ -386,7 +386,7 @@ export class TmCustomGoals extends LitElement {
     const target = this.outcomes(ws, item.draft.target);
     const numeric = (o: RowOutcome[] | undefined): boolean => o?.some((r) => r.kind === 'number') ?? false;
     const rowsLine = (what: string, id: string, o: RowOutcome[] | undefined, waiting: string) =>
-      html`<p class="rows-line" id=${id}><span class="what">${what}:</span> ${o ? outcomeSummary(o) : waiting}</p>`;
+      html`<p class="rows-line" id=${id}><span class="lead">${what}:</span> ${o ? outcomeSummary(o) : waiting}</p>`;
     const lines = html`${hasCondition ? rowsLine('Applies when, on the rows', `cond-rows-${item.uid}`, cond, 'shown once the condition can be read.') : nothing}
     ${rowsLine('Target, on the rows', `target-rows-${item.uid}`, target, 'shown once the target can be read.')}
     ${numeric(cond) || numeric(target)

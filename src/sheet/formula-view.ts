@@ -85,6 +85,9 @@ export const formulaStyles = css`
     column-gap: 20px;
     padding-bottom: 10px;
   }
+  .help-groups section.short {
+    break-inside: avoid;
+  }
   .help-groups h3 {
     font-size: 0.95rem;
     margin: 8px 0 2px;
@@ -166,7 +169,7 @@ export function renderHelp(groups: readonly HelpGroup[]): TemplateResult {
     <summary>Names a formula can use</summary>
     <div class="help-groups">
       ${groups.map(
-        (g) => html`<section>
+        (g) => html`<section class=${g.items.length > 12 ? 'long' : 'short'}>
           <h3>${g.title}</h3>
           <ul>
             ${g.items.map((i) => html`<li><code>${i.name}</code> ${i.meaning}</li>`)}
