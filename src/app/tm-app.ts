@@ -19,7 +19,8 @@ import type { GoalStatus } from '../goals/status.js';
 import '../goals/tm-goal-panel.js';
 import type { GoalSelectEvent, GoalSetsEvent } from '../goals/tm-goal-panel.js';
 import { systemClock, type Clock } from '../sheet/clock.js';
-import { deriveAll, type Derivation } from '../sheet/derived.js';
+import type { Derivation } from '../sheet/derived.js';
+import { rederive } from '../sheet/rederive.js';
 import type { Worksheet } from '../sheet/model.js';
 import '../sheet/tm-grid.js';
 import { formatClock, formatDuration, formatOffset } from '../sheet/time.js';
@@ -329,7 +330,8 @@ export class TmApp extends LitElement {
       return;
     }
     if (this.derivedFor !== ws) {
-      this.derivation = deriveAll(ws);
+      // A cell edit recomputes only the rows it reaches; anything else recomputes everything.
+      this.derivation = rederive(this.derivation, this.derivedFor, ws);
       this.derivedFor = ws;
     }
     // Statuses change with the worksheet and with the clock (at second resolution near deadlines).

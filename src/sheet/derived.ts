@@ -409,7 +409,8 @@ export interface Derivation {
   basis: string;
 }
 
-function basisOf(ws: Worksheet, options: DeriveOptions): string {
+/** Everything besides cells that a derivation depends on (see `Derivation.basis`). */
+export function basisOf(ws: Worksheet, options: DeriveOptions = {}): string {
   return JSON.stringify([
     ws.weightKg ?? null, ws.heightCm ?? null, ws.sex ?? null, ws.useIdealWeight, ws.baselineSbp ?? null,
     ws.timeZero?.time ?? null, ws.derivedColumns, options.windowHours ?? DEFAULT_WINDOW_HOURS,

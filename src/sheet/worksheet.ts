@@ -107,19 +107,29 @@ export interface CellInputEdit extends CellEdit {
   input: string;
 }
 
-/** Sets several cells at once (paste): one change, one log entry per cell. */
+/**
+ * Sets several cells at once (paste): one change, one log entry per cell. Rows not edited keep
+ * their objects, so what depends on them (derived values, rendered rows) can tell they did not change.
+ */
 export function setCells(ctx: Ctx, ws: Worksheet, edits: readonly CellEdit[]): Change {
-  const byRow = new Map(ws.rows.map((r) => [r.id, { ...r, cells: { ...r.cells } }]));
+  const index = new Map(ws.rows.map((r, i) => [r.id, i]));
+  const byRow = new Map<string, Row>();
   const entries: Omit<EditLogEntry, 'id' | 'at'>[] = [];
   for (const e of edits) {
-    const row = byRow.get(e.rowId);
-    if (!row) throw new Error(`setCells: no row "${e.rowId}" in worksheet "${ws.id}"`);
+    let row = byRow.get(e.rowId);
+    if (!row) {
+      const i = index.get(e.rowId);
+      if (i === undefined) throw new Error(`setCells: no row "${e.rowId}" in worksheet "${ws.id}"`);
+      const original = ws.rows[i]!;
+      row = { ...original, cells: { ...original.cells } };
+      byRow.set(e.rowId, row);
+    }
     const old = row.cells[e.key] ?? null;
     if (e.cell === null) delete row.cells[e.key];
     else row.cells[e.key] = e.cell;
     entries.push({ kind: 'cell', rowId: e.rowId, key: e.key, old, new: e.cell });
   }
-  return commit(ctx, ws, { rows: ws.rows.map((r) => byRow.get(r.id)!) }, entries);
+  return commit(ctx, ws, { rows: ws.rows.map((r) => byRow.get(r.id) ?? r) }, entries);
 }
 
 /** Moves a row to another time; rows stay sorted. */
