@@ -11,7 +11,7 @@
  * - `evaluateExpression` evaluates a goal's condition or target at every row, with the values,
  *   facts and helpers the goal engine uses (`evaluateAtRows`).
  */
-import { formatClock, formatDateTime } from './time.js';
+import { formatDateTime } from './time.js';
 import { compileColumns, DERIVED_DEFS, deriveAll, evaluateAtRows, SCORE_DEFS, tidy, type ColumnPlan, type Derivation } from './derived.js';
 import { ALLOWED_FUNCTIONS, compileFormula, FACTS, HELPERS, MAX_FORMULA_LENGTH, reservedNameReason, type CompiledFormula, type EvalResult } from './formula-engine.js';
 import { MEASURE_KEYS, MEASURES } from './measures.js';
@@ -65,10 +65,17 @@ export function formatPreviewNumber(v: number): string {
 
 /** "08:40" in the worksheet's offset, or "2026-03-01 08:40" when the day is not the reference day. */
 export function rowClock(ws: Worksheet, iso: string): string {
+  return clockFormatter(ws)(iso);
+}
+
+/** rowClock for many rows: the reference day (time zero's, else the first row's) worked out once. */
+function clockFormatter(ws: Worksheet): (iso: string) => string {
   const ref = ws.timeZero?.time ?? ws.rows[0]?.time;
-  const day = formatDateTime(iso, ws.displayOffset).slice(0, 10);
-  const refDay = ref ? formatDateTime(ref, ws.displayOffset).slice(0, 10) : day;
-  return day === refDay ? formatClock(iso, ws.displayOffset) : formatDateTime(iso, ws.displayOffset);
+  const refDay = ref ? formatDateTime(ref, ws.displayOffset).slice(0, 10) : undefined;
+  return (iso) => {
+    const full = formatDateTime(iso, ws.displayOffset);
+    return refDay === undefined || full.slice(0, 10) === refDay ? full.slice(11) : full;
+  };
 }
 
 /** One row's outcome of a formula. */
@@ -87,9 +94,9 @@ export interface RowOutcome {
   beforeTimeZero: boolean;
 }
 
-function outcomeOf(ws: Worksheet, i: number, r: EvalResult, t0Ms: number | undefined): RowOutcome {
+function outcomeOf(ws: Worksheet, i: number, r: EvalResult, t0Ms: number | undefined, clock: (iso: string) => string): RowOutcome {
   const row = ws.rows[i]!;
-  const base = { rowId: row.id, time: row.time, clock: rowClock(ws, row.time), beforeTimeZero: t0Ms !== undefined && Date.parse(row.time) < t0Ms };
+  const base = { rowId: row.id, time: row.time, clock: clock(row.time), beforeTimeZero: t0Ms !== undefined && Date.parse(row.time) < t0Ms };
   if (r.ok) {
     if (typeof r.value === 'boolean') return { ...base, kind: r.value ? 'true' : 'false', text: r.value ? 'true' : 'false' };
     const value = tidy(r.value);
@@ -204,13 +211,14 @@ export function previewColumns(ws: Worksheet, base: Derivation, drafts: readonly
     }
   }
   const t0Ms = ws.timeZero ? Date.parse(ws.timeZero.time) : undefined;
+  const clock = clockFormatter(ordered);
   const rows = compiledKeys.map((k) => {
     const res = results.get(k);
     if (!res) return undefined;
     return res.map((r, i) => {
       // Columns store true/false as 1/0, as the grid shows them.
       const stored: EvalResult = r.ok && typeof r.value === 'boolean' ? { ok: true, value: r.value ? 1 : 0 } : r;
-      return outcomeOf(ordered, i, stored, t0Ms);
+      return outcomeOf(ordered, i, stored, t0Ms, clock);
     });
   });
   return { plan, problems, rows };
@@ -301,7 +309,8 @@ export function evaluateFormulaOnRows(ws: Worksheet, derivation: Derivation, for
   const ordered = timeOrdered(ws);
   const t0Ms = ws.timeZero ? Date.parse(ws.timeZero.time) : undefined;
   if (derivation.rows.length !== ordered.rows.length) return [];
-  return evaluateAtRows(ordered, derivation, formula).map((r, i) => outcomeOf(ordered, i, r, t0Ms));
+  const clock = clockFormatter(ordered);
+  return evaluateAtRows(ordered, derivation, formula).map((r, i) => outcomeOf(ordered, i, r, t0Ms, clock));
 }
 
 /** The derivation goals are evaluated on: built-ins, scores and the worksheet's saved columns. */
