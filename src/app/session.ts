@@ -11,7 +11,7 @@
  */
 import type { Clock } from '../sheet/clock.js';
 import type { Store } from '../storage/store.js';
-import type { Row, Worksheet } from '../sheet/model.js';
+import type { CustomGoal, DerivedColumn, Row, Worksheet } from '../sheet/model.js';
 import {
   addRow,
   deleteRow,
@@ -19,6 +19,8 @@ import {
   insertRow,
   setCells,
   setColumns,
+  setCustomGoals,
+  setDerivedColumns,
   setFacts,
   setRowTime,
   type CellEdit,
@@ -39,6 +41,8 @@ type Command =
   | { type: 'row-time'; rowId: string; time: string; offset: number }
   | { type: 'facts'; patch: Partial<Facts> }
   | { type: 'columns'; columns: string[] }
+  | { type: 'derived-columns'; columns: DerivedColumn[] }
+  | { type: 'custom-goals'; goals: CustomGoal[] }
   /** Several commands applied as one change and undone as one step (a paste). */
   | { type: 'batch'; commands: Command[] };
 
@@ -153,6 +157,13 @@ export class WorksheetSession {
       }
       case 'columns':
         return { change: setColumns(this.ctx, ws, cmd.columns), inverse: { type: 'columns', columns: ws.columns } };
+      case 'derived-columns':
+        return {
+          change: setDerivedColumns(this.ctx, ws, cmd.columns),
+          inverse: { type: 'derived-columns', columns: ws.derivedColumns },
+        };
+      case 'custom-goals':
+        return { change: setCustomGoals(this.ctx, ws, cmd.goals), inverse: { type: 'custom-goals', goals: ws.customGoals } };
       case 'batch': {
         // One stored version with every entry of the parts: written in one transaction.
         let next = ws;
@@ -328,6 +339,27 @@ export class WorksheetSession {
 
   setColumns(columns: string[]): Promise<boolean> {
     return this.run({ type: 'columns', columns }, 'do');
+  }
+
+  /**
+   * The worksheet's own calculated columns (mathjs expressions over measure keys). A new column is
+   * shown in the grid at once; a removed one leaves it. One change, undone in one step.
+   */
+  setDerivedColumns(columns: DerivedColumn[]): Promise<boolean> {
+    const ws = this.view;
+    const keys = columns.map((c) => c.key);
+    const removed = new Set(ws.derivedColumns.map((c) => c.key).filter((k) => !keys.includes(k)));
+    const visible = ws.columns.filter((k) => !removed.has(k));
+    for (const k of keys) if (!visible.includes(k)) visible.push(k);
+    return this.run(
+      { type: 'batch', commands: [{ type: 'derived-columns', columns }, { type: 'columns', columns: visible }] },
+      'do',
+    );
+  }
+
+  /** The worksheet's own goals. */
+  setCustomGoals(goals: CustomGoal[]): Promise<boolean> {
+    return this.run({ type: 'custom-goals', goals }, 'do');
   }
 
   undo(): Promise<boolean> {

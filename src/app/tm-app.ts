@@ -11,7 +11,11 @@ import { LitElement, css, html, nothing } from 'lit';
 import { customElement, property, state } from 'lit/decorators.js';
 import { nextTickMs } from '../goals/clocks.js';
 import { suggestTimeZero } from '../goals/suggest.js';
+import '../goals/tm-custom-goals.js';
+import type { CustomGoalsEvent } from '../goals/tm-custom-goals.js';
 import '../goals/tm-time-zero-suggestion.js';
+import '../sheet/tm-derived-columns.js';
+import type { DerivedColumnsEvent } from '../sheet/tm-derived-columns.js';
 import type { HighlightEvent } from '../goals/tm-time-zero-suggestion.js';
 import { CUSTOM_SET_ID, defaultRegistry, GOAL_SETS } from '../goals/registry.js';
 import { evaluate, worksheetSetIds } from '../goals/engine.js';
@@ -50,7 +54,7 @@ const BASIS_WORDS: Record<string, string> = {
 };
 
 
-type Panel = 'none' | 'facts' | 'exports';
+type Panel = 'none' | 'facts' | 'exports' | 'columns' | 'own-goals';
 
 @customElement('tm-app')
 export class TmApp extends LitElement {
@@ -487,10 +491,16 @@ export class TmApp extends LitElement {
         <button @click=${() => (this.panel = this.panel === 'exports' ? 'none' : 'exports')} aria-expanded=${this.panel === 'exports'}>
           Export
         </button>
+        <button @click=${() => this.toggle('columns')} aria-expanded=${this.panel === 'columns'}>Calculated columns</button>
+        <button @click=${() => this.toggle('own-goals')} aria-expanded=${this.panel === 'own-goals'}>Own goals</button>
         <button @click=${() => (this.showTrends = !this.showTrends)} aria-pressed=${this.showTrends ? 'true' : 'false'}>Trends</button>
         <button @click=${() => (this.railHidden = !this.railHidden)} aria-pressed=${this.railHidden ? 'false' : 'true'}>Worksheets</button>
       </div>
     </div>`;
+  }
+
+  private toggle(panel: Panel): void {
+    this.panel = this.panel === panel ? 'none' : panel;
   }
 
   private saveBadge() {
@@ -613,6 +623,26 @@ export class TmApp extends LitElement {
                         @tm-facts=${(e: FactsEvent) => void this.session?.setFacts(e.patch)}
                         @tm-highlight=${(e: HighlightEvent) => (this.highlight = new Set(e.rowIds))}
                       ></tm-time-zero-suggestion>
+                    </div>`
+                  : nothing}
+                ${this.panel === 'columns'
+                  ? html`<div class="drawer">
+                      <tm-derived-columns
+                        .worksheet=${ws}
+                        .now=${this.now}
+                        @tm-derived-columns=${(e: DerivedColumnsEvent) => void this.session?.setDerivedColumns(e.columns)}
+                        @tm-close=${() => (this.panel = 'none')}
+                      ></tm-derived-columns>
+                    </div>`
+                  : nothing}
+                ${this.panel === 'own-goals'
+                  ? html`<div class="drawer">
+                      <tm-custom-goals
+                        .worksheet=${ws}
+                        .now=${this.now}
+                        @tm-custom-goals=${(e: CustomGoalsEvent) => void this.session?.setCustomGoals(e.goals)}
+                        @tm-close=${() => (this.panel = 'none')}
+                      ></tm-custom-goals>
                     </div>`
                   : nothing}
                 ${this.panel === 'exports'

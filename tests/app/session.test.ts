@@ -134,3 +134,21 @@ describe('WorksheetSession paste', () => {
     expect(store.stored.rev).toBe(revBefore + 2);
   });
 });
+
+describe('WorksheetSession calculated columns and own goals', () => {
+  it('shows a new calculated column in the grid and removes it again on undo', async () => {
+    const { store, session } = fixture();
+    await session.setDerivedColumns([{ key: 'si_check', label: 'Shock index check', expression: 'hr / sbp' }]);
+    expect(store.stored.derivedColumns.map((c) => c.key)).toEqual(['si_check']);
+    expect(store.stored.columns).toContain('si_check');
+    await session.undo();
+    expect(store.stored.derivedColumns).toEqual([]);
+    expect(store.stored.columns).not.toContain('si_check');
+  });
+
+  it('stores the worksheet own goals', async () => {
+    const { store, session } = fixture();
+    await session.setCustomGoals([{ id: 'sbp-90', label: 'SBP at least 90', target: 'sbp >= 90', deadlineMinutes: 60 }]);
+    expect(store.stored.customGoals.map((g) => g.id)).toEqual(['sbp-90']);
+  });
+});
