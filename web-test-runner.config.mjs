@@ -13,11 +13,16 @@ if (!executablePath) {
   );
 }
 
-/** Counts every test (and every file that failed before its tests ran) into a JSON file for scripts/test.mjs. */
+/**
+ * Counts every test (and every file that failed before its tests ran) into a JSON file for scripts/test.mjs.
+ * @param {string} outputFile
+ * @returns {import('@web/test-runner').Reporter}
+ */
 function countsReporter(outputFile) {
   return {
     onTestRunFinished({ sessions }) {
       const counts = { passed: 0, failed: 0, skipped: 0, fileErrors: 0 };
+      /** @param {import('@web/test-runner').TestSuiteResult} suite */
       const walk = (suite) => {
         for (const test of suite.tests) {
           if (test.skipped) counts.skipped += 1;
@@ -40,6 +45,7 @@ function countsReporter(outputFile) {
 
 const countsFile = process.env.TIDEMARK_WTR_COUNTS;
 
+/** @type {import('@web/test-runner').TestRunnerConfig} */
 export default {
   rootDir: devServerConfig.rootDir,
   files: 'tests/**/*_test.ts',

@@ -38,6 +38,7 @@ export const CSP = [
  * tree-shaking: 64 translations we never use. The app speaks English only, so the bundle gets a
  * locales module that holds English alone. Nothing else of zod changes.
  */
+/** @type {import('esbuild').Plugin} */
 const englishOnlyZodLocales = {
   name: 'zod-english-only',
   setup(b) {
@@ -79,7 +80,10 @@ export async function build({ quiet = false, outDir = dist } = {}) {
     JSON.stringify({ name: 'Tidemark', short_name: 'Tidemark', start_url: './', display: 'standalone', background_color: '#f6f4ef', theme_color: '#1c2430' }, null, 2),
   );
   const shell = ['./', './index.html', './assets/app.js', './manifest.webmanifest'];
-  const sw = (await readFile(`${root}src/app/sw.js`, 'utf8')).replace('__CACHE__', `tidemark-${hash}`).replace("'__SHELL__'", JSON.stringify(shell));
+  // Replace the quoted placeholders (the file's header comment names them too).
+  const sw = (await readFile(`${root}src/app/sw.js`, 'utf8'))
+    .replace("'__CACHE__'", JSON.stringify(`tidemark-${hash}`))
+    .replace("'__SHELL__'", JSON.stringify(shell));
   await writeFile(`${outDir}/sw.js`, sw);
 
   const gz = gzipSync(js, { level: 9 }).length;

@@ -10,6 +10,10 @@ const root = fileURLToPath(new URL('..', import.meta.url));
 process.chdir(root);
 
 /** Resolves true if nothing listens on `port` (checked the way the dev server binds: all interfaces). */
+/**
+ * @param {number} port
+ * @returns {Promise<boolean>}
+ */
 function isFree(port) {
   return new Promise((resolve) => {
     const probe = createServer();
@@ -18,6 +22,10 @@ function isFree(port) {
   });
 }
 
+/**
+ * @param {number} start
+ * @param {number} [attempts]
+ */
 async function firstFreePort(start, attempts = 100) {
   for (let port = start; port < start + attempts; port += 1) {
     if (await isFree(port)) return port;

@@ -12,6 +12,7 @@ export const CHROME_CANDIDATES = [
   '/usr/bin/google-chrome-stable',
 ];
 
+/** @param {string} path */
 function isExecutableFile(path) {
   try {
     accessSync(path, constants.X_OK);

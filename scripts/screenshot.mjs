@@ -13,7 +13,7 @@ if (!url || !out) {
   process.exit(2);
 }
 const browser = await chromium.launch({
-  executablePath: findChrome(),
+  executablePath: findChrome() ?? undefined,
   headless: true,
   args: ['--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'],
 });

@@ -7,6 +7,7 @@ import { extname, join, normalize } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { CSP } from './build.mjs';
 
+/** @type {Record<string, string>} */
 const TYPES = {
   '.html': 'text/html; charset=utf-8',
   '.js': 'text/javascript; charset=utf-8',
@@ -17,7 +18,10 @@ const TYPES = {
   '.svg': 'image/svg+xml',
 };
 
-/** Starts a static server for `dir`; resolves with the server and its port. */
+/**
+ * Starts a static server for `dir`; resolves with the server and its port.
+ * @returns {Promise<{ server: import('node:http').Server; port: number }>}
+ */
 export function serveDist({ dir = fileURLToPath(new URL('../dist/', import.meta.url)), port = 0 } = {}) {
   const server = createServer(async (req, res) => {
     try {
@@ -43,6 +47,11 @@ export function serveDist({ dir = fileURLToPath(new URL('../dist/', import.meta.
   });
   return new Promise((resolve, reject) => {
     server.once('error', reject);
-    server.listen(port, '127.0.0.1', () => resolve({ server, port: server.address().port }));
+    server.listen(port, '127.0.0.1', () => {
+      const address = server.address();
+      // Listening on a TCP port, so the address is an AddressInfo (a string only for pipes).
+      if (address === null || typeof address === 'string') reject(new Error('server has no TCP address'));
+      else resolve({ server, port: address.port });
+    });
   });
 }

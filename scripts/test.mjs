@@ -15,6 +15,10 @@ import { findChrome } from './find-chrome.mjs';
 
 const root = fileURLToPath(new URL('..', import.meta.url));
 
+/**
+ * @param {string} message
+ * @returns {never}
+ */
 function usage(message) {
   console.error(`${message}\nUsage: node scripts/test.mjs [--node-only | --browser-only]`);
   process.exit(2);
@@ -30,13 +34,20 @@ if (nodeOnly && browserOnly) usage('Use at most one of --node-only and --browser
 const runNode = !browserOnly;
 const runBrowser = !nodeOnly;
 
-/** Absolute path of a (direct) dependency's command-line entry, run with this same Node. */
+/**
+ * Absolute path of a (direct) dependency's command-line entry, run with this same Node.
+ * @param {string} pkg
+ * @param {string} name
+ */
 function binOf(pkg, name) {
   const packageDir = join(root, 'node_modules', pkg);
-  const { bin } = JSON.parse(readFileSync(join(packageDir, 'package.json'), 'utf8'));
+  const { bin } = /** @type {{ bin: string | Record<string, string> }} */ (
+    JSON.parse(readFileSync(join(packageDir, 'package.json'), 'utf8'))
+  );
   return join(packageDir, typeof bin === 'string' ? bin : bin[name]);
 }
 
+/** @param {string} command */
 function commandExists(command) {
   return spawnSync('sh', ['-c', `command -v ${command}`], { stdio: 'ignore' }).status === 0;
 }
@@ -63,6 +74,10 @@ function ensureChrome() {
   process.exit(1);
 }
 
+/**
+ * @param {string} path
+ * @returns {unknown} the parsed file, or null when it is missing or not JSON
+ */
 function readJson(path) {
   try {
     return JSON.parse(readFileSync(path, 'utf8'));
@@ -71,6 +86,11 @@ function readJson(path) {
   }
 }
 
+/**
+ * @param {string} command
+ * @param {string[]} commandArgs
+ * @param {NodeJS.ProcessEnv} [env]
+ */
 function run(command, commandArgs, env = process.env) {
   const result = spawnSync(process.execPath, [command, ...commandArgs], { cwd: root, stdio: 'inherit', env });
   if (result.error) throw result.error;
@@ -78,7 +98,20 @@ function run(command, commandArgs, env = process.env) {
   return result.status ?? 1;
 }
 
+/**
+ * The parts of vitest's JSON report read here.
+ * @typedef {{
+ *   numPassedTests: number; numFailedTests: number; numPendingTests: number; numTodoTests: number;
+ *   testResults: { status: string; assertionResults: { status: string }[] }[];
+ * }} VitestReport
+ */
+/**
+ * What web-test-runner.config.mjs's counts reporter writes.
+ * @typedef {{ passed: number; failed: number; skipped: number; fileErrors: number }} BrowserCounts
+ */
+
 const totals = { passed: 0, failed: 0, skipped: 0, errors: 0 };
+/** @type {string[]} */
 const notes = [];
 let exitCode = 0;
 const workDir = mkdtempSync(join(tmpdir(), 'tidemark-test-'));
@@ -95,7 +128,7 @@ try {
       '--reporter=json',
       `--outputFile.json=${report}`,
     ]);
-    const json = existsSync(report) ? readJson(report) : null;
+    const json = existsSync(report) ? /** @type {VitestReport | null} */ (readJson(report)) : null;
     if (json) {
       totals.passed += json.numPassedTests;
       totals.failed += json.numFailedTests;
@@ -116,11 +149,11 @@ try {
     const counts = join(workDir, 'wtr.json');
     const status = run(binOf('@web/test-runner', 'web-test-runner'), ['--config', 'web-test-runner.config.mjs'], {
       ...process.env,
-      CHROME_PATH: chromePath,
+      CHROME_PATH: chromePath ?? undefined,
       TIDEMARK_WTR_COUNTS: counts,
     });
     const before = totals.failed + totals.errors;
-    const json = existsSync(counts) ? readJson(counts) : null;
+    const json = existsSync(counts) ? /** @type {BrowserCounts | null} */ (readJson(counts)) : null;
     if (json) {
       totals.passed += json.passed;
       totals.failed += json.failed;
