@@ -14,6 +14,13 @@
  * Transaction lifetime: between opening a transaction and `tx.done`, nothing but IndexedDB
  * requests is awaited (reference §1.7). Validation and encoding happen before the transaction.
  *
+ * Sealed records (the optional notebook lock, src/storage/lock.ts): with a `RecordCodec` set, every
+ * worksheet record, summary and log entry is sealed before its transaction opens and opened after
+ * its transaction ends (WebCrypto is asynchronous and must never be awaited inside one). Only the
+ * fields the store itself needs stay readable (`CLEAR_FIELDS`). Each write transaction also reads
+ * the `lock` meta record and refuses to write when its key id is not this connection's, so a tab
+ * that missed a lock change can never write plain data into a locked notebook (or the reverse).
+ *
  * No DOM: IndexedDB, BroadcastChannel and navigator.storage are reached through guarded globals
  * or injected, so Node tests (fake-indexeddb) and the browser share this module. In Node, load
  * `fake-indexeddb/auto` first: idb checks the IDB* classes on globalThis.
@@ -106,6 +113,8 @@ export type StoreErrorKind =
   | 'closed'
   /** A stored record does not match the expected shape. */
   | 'corrupt'
+  /** The notebook is locked: its records are sealed and this tab has not been given the key. */
+  | 'locked'
   | 'failed';
 
 /** Thrown by `openStore` and by reads (`get`, `getAll`, `list`, `getMeta`). */
@@ -119,6 +128,43 @@ export class StoreError extends Error {
   ) {
     super(message);
   }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Sealed records (the optional notebook lock)
+
+/** The meta key of the notebook lock record (its shape is defined in lock.ts). */
+export const LOCK_META_KEY = 'lock';
+
+/** Fields that stay readable in a sealed record: keys, index fields and what a commit checks. */
+export const CLEAR_FIELDS = {
+  worksheets: ['id', 'rev', 'logCount'],
+  summaries: ['id', 'rev', 'updatedAt'],
+  log: ['worksheetId', 'seq'],
+} as const;
+
+export type SealedStore = keyof typeof CLEAR_FIELDS;
+
+/** Seals and opens records (implemented with AES-GCM in lock.ts). */
+export interface RecordCodec {
+  /** Identifies the key; equals the `keyId` of the lock meta record it belongs to. */
+  readonly keyId: string;
+  /** The record with everything but CLEAR_FIELDS[store] sealed in a `sealed` field. */
+  seal(store: SealedStore, plain: Record<string, unknown>): Promise<Record<string, unknown>>;
+  /** The plain record; throws StoreError ('locked' for another key, 'corrupt' if it fails to open). */
+  open(store: SealedStore, sealed: Record<string, unknown>): Promise<Record<string, unknown>>;
+}
+
+/** True for a record written through a codec. */
+export function isSealed(value: unknown): value is Record<string, unknown> & { sealed: object } {
+  return typeof value === 'object' && value !== null && typeof (value as { sealed?: unknown }).sealed === 'object' && (value as { sealed?: unknown }).sealed !== null;
+}
+
+/** The key id a lock meta record names (undefined: the notebook is not locked). */
+export function lockKeyId(value: unknown): string | undefined {
+  if (typeof value !== 'object' || value === null) return undefined;
+  const id = (value as { keyId?: unknown }).keyId;
+  return typeof id === 'string' ? id : undefined;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -190,6 +236,20 @@ export interface Store {
   setMeta(key: string, value: unknown): Promise<MetaResult>;
   /** Notices from other tabs; returns an unsubscribe function. */
   onExternalChange(callback: (notice: ChangeNotice) => void): () => void;
+  /**
+   * Gives this connection the key of a locked notebook (after the passphrase was checked), or
+   * takes it away (`undefined`: the notebook locks; reads then throw `locked`, writes fail).
+   */
+  setCodec(codec: RecordCodec | undefined): void;
+  /** Key id of the codec in use, if any. */
+  readonly keyId: string | undefined;
+  /**
+   * Rewrites every worksheet, summary and log entry sealed with `next` (or plain when undefined)
+   * and stores `lock` as the lock meta record (deleted when undefined), all in ONE transaction
+   * with durability 'strict'. Retries when another tab writes in between; the old records stay
+   * intact if anything fails. Then this connection uses `next`.
+   */
+  reseal(next: RecordCodec | undefined, lock: unknown): Promise<MetaResult>;
   /** Closes the connection and the channel. Idempotent. */
   close(): void;
 }
@@ -304,6 +364,14 @@ function closedFailure(): WriteFailure {
   return { ok: false, reason: 'closed', message: CLOSED_MESSAGE };
 }
 
+const LOCK_CHANGED_MESSAGE =
+  'The notebook lock was switched on, off or changed in another tab, so this tab may not write. Export what is on screen if you need it, then reload this tab.';
+const LOCKED_MESSAGE = 'The notebook is locked. Unlock it with its passphrase to read or change worksheets.';
+
+function lockChangedFailure(): WriteFailure {
+  return { ok: false, reason: 'closed', message: LOCK_CHANGED_MESSAGE };
+}
+
 function failure(err: unknown, closed: boolean): WriteFailure {
   const name = errorName(err);
   if (name === 'QuotaExceededError') {
@@ -402,24 +470,45 @@ function assemble(id: string, record: unknown, entries: readonly unknown[]): Wor
   return { ...rest, log };
 }
 
-async function readIn(tx: ReadTx, id: string): Promise<Worksheet | undefined> {
+/** A worksheet's stored record and log entries as read (possibly sealed), before assembly. */
+interface RawWorksheet {
+  record: unknown;
+  entries: unknown[];
+}
+
+async function readRaw(tx: ReadTx, id: string): Promise<RawWorksheet | undefined> {
   const [record, entries] = await Promise.all([
     tx.objectStore('worksheets').get(id),
     // The primary key [worksheetId, seq] keeps a worksheet's entries together and in order.
     tx.objectStore('log').getAll(logRange(id)),
   ]);
   if (record === undefined) return undefined;
-  return assemble(id, record, entries);
+  return { record, entries };
 }
 
-/** Writes (put) a worksheet's record, summary and all of its log entries. Returns the requests. */
-function writeWhole(tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>, ws: Worksheet): Promise<unknown>[] {
+/** What is written for one worksheet: its record, summary and log entries (sealed or plain). */
+interface Pieces {
+  record: Record<string, unknown>;
+  summary: Record<string, unknown>;
+  entries: Record<string, unknown>[];
+}
+
+/** Writes (put) a worksheet's pieces, with `rev` in place of the one they were made with. Returns the requests. */
+function writePieces(tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>, p: Pieces, rev?: number): Promise<unknown>[] {
   const log = tx.objectStore('log');
+  // The stores hold StoredWorksheet/WorksheetSummary/StoredLogEntry, or their sealed form.
+  const record = (rev === undefined ? p.record : { ...p.record, rev }) as StoredWorksheet;
+  const summary = (rev === undefined ? p.summary : { ...p.summary, rev }) as WorksheetSummary;
   return [
-    issued(tx.objectStore('worksheets').put(toStoredWorksheet(ws))),
-    issued(tx.objectStore('summaries').put(summaryOf(ws))),
-    ...ws.log.map((entry, seq) => issued(log.put({ worksheetId: ws.id, seq, entry }))),
+    issued(tx.objectStore('worksheets').put(record)),
+    issued(tx.objectStore('summaries').put(summary)),
+    ...p.entries.map((entry) => issued(log.put(entry as StoredLogEntry))),
   ];
+}
+
+/** Whether a write may go ahead: the lock record's key id is this connection's. */
+async function lockMatches(tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>, keyId: string | undefined): Promise<boolean> {
+  return lockKeyId(await tx.objectStore('meta').get(LOCK_META_KEY)) === keyId;
 }
 
 function openChannel(name: string, enabled: boolean): BroadcastChannel | undefined {
@@ -440,6 +529,7 @@ class NotebookStore implements Store {
   private closed = false;
   private readonly channel: BroadcastChannel | undefined;
   private readonly listeners = new Set<(notice: ChangeNotice) => void>();
+  private codec: RecordCodec | undefined;
 
   constructor(
     readonly name: string,
@@ -457,6 +547,45 @@ class NotebookStore implements Store {
 
   isOpen(): boolean {
     return !this.closed;
+  }
+
+  get keyId(): string | undefined {
+    return this.codec?.keyId;
+  }
+
+  setCodec(codec: RecordCodec | undefined): void {
+    this.codec = codec;
+  }
+
+  /** Opens a record read from `store` (plain records pass through). */
+  private async openValue(store: SealedStore, raw: unknown): Promise<unknown> {
+    if (!isSealed(raw)) return raw;
+    if (!this.codec) throw new StoreError('locked', LOCKED_MESSAGE);
+    return this.codec.open(store, raw);
+  }
+
+  /** Opens and validates a worksheet read with readRaw (after its transaction has ended). */
+  private async assembleRaw(id: string, raw: RawWorksheet): Promise<Worksheet> {
+    const [record, entries] = await Promise.all([
+      this.openValue('worksheets', raw.record),
+      Promise.all(raw.entries.map((e) => this.openValue('log', e))),
+    ]);
+    return assemble(id, record, entries);
+  }
+
+  /** The records to write for a worksheet, sealed when a codec is set (before any transaction). */
+  private async pieces(ws: Worksheet, entries: readonly { seq: number; entry: Worksheet['log'][number] }[]): Promise<Pieces> {
+    const record = toStoredWorksheet(ws) as Record<string, unknown>;
+    const summary = summaryOf(ws) as Record<string, unknown>;
+    const plainEntries = entries.map((e) => ({ worksheetId: ws.id, seq: e.seq, entry: e.entry }) as Record<string, unknown>);
+    const codec = this.codec;
+    if (!codec) return { record, summary, entries: plainEntries };
+    const [r, s, es] = await Promise.all([
+      codec.seal('worksheets', record),
+      codec.seal('summaries', summary),
+      Promise.all(plainEntries.map((e) => codec.seal('log', e))),
+    ]);
+    return { record: r, summary: s, entries: es };
   }
 
   markClosed(): void {
@@ -515,7 +644,16 @@ class NotebookStore implements Store {
     const summaries: WorksheetSummary[] = [];
     const unreadable: Unreadable[] = [];
     const seen = new Set<string>();
-    for (const value of raw.reverse()) {
+    const opened = await Promise.all(
+      raw.reverse().map((value) =>
+        this.openValue('summaries', value).catch((err: unknown) => {
+          // Locked: the whole list is unreadable, say so once. A damaged sealed summary: that entry only.
+          if (err instanceof StoreError && err.kind === 'locked') throw err;
+          return value;
+        }),
+      ),
+    );
+    for (const value of opened) {
       const parsed = WorksheetSummary.safeParse(value);
       const id = typeof (value as { id?: unknown }).id === 'string' ? (value as { id: string }).id : '';
       seen.add(id);
@@ -530,8 +668,8 @@ class NotebookStore implements Store {
 
   async get(id: string): Promise<Worksheet | undefined> {
     const tx = this.readTx(['worksheets', 'log']);
-    const [ws] = await Promise.all([readIn(tx, id), tx.done]);
-    return ws;
+    const [raw] = await Promise.all([readRaw(tx, id), tx.done]);
+    return raw === undefined ? undefined : this.assembleRaw(id, raw);
   }
 
   async getAll(): Promise<{ worksheets: Worksheet[]; unreadable: Unreadable[] }> {
@@ -552,8 +690,9 @@ class NotebookStore implements Store {
     for (const record of records) {
       const id = String((record as { id?: unknown }).id);
       try {
-        worksheets.push(assemble(id, record, byWorksheet.get(id) ?? []));
+        worksheets.push(await this.assembleRaw(id, { record, entries: byWorksheet.get(id) ?? [] }));
       } catch (err) {
+        if (err instanceof StoreError && err.kind === 'locked') throw err;
         unreadable.push({ id, message: err instanceof StoreError ? [err.message, ...err.problems].join(' ') : errorMessage(err) });
       }
     }
@@ -564,21 +703,27 @@ class NotebookStore implements Store {
     if (this.closed) return closedFailure();
     const parsed = Worksheet.safeParse(ws);
     if (!parsed.success) return invalid('This is not a valid worksheet.', formatIssues(parsed.error.issues));
+    const keyId = this.codec?.keyId;
+    const pieces = await this.pieces(ws, ws.log.map((entry, seq) => ({ seq, entry })));
     let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
     try {
-      tx = this.writeTx(['worksheets', 'summaries', 'log']);
+      tx = this.writeTx(['worksheets', 'summaries', 'log', 'meta']);
     } catch (err) {
       return failure(err, this.closed);
     }
     const done = tx.done;
     done.catch(() => undefined);
     try {
+      if (!(await lockMatches(tx, keyId))) {
+        this.abortQuietly(tx);
+        return lockChangedFailure();
+      }
       const existing = await tx.objectStore('worksheets').getKey(ws.id);
       if (existing !== undefined) {
         await done;
         return { ok: false, reason: 'exists', message: `A worksheet with id "${ws.id}" already exists.` };
       }
-      await Promise.all([...writeWhole(tx, ws), done]);
+      await Promise.all([...writePieces(tx, pieces), done]);
     } catch (err) {
       return this.abortWith(tx, err);
     }
@@ -591,19 +736,25 @@ class NotebookStore implements Store {
     const problems = checkChange(change, expectedRev);
     if (problems.length > 0) return invalid('The change is not valid and was not saved.', problems);
     const ws = change.worksheet;
-    const record = toStoredWorksheet(ws);
-    const summary = summaryOf(ws);
     const firstSeq = ws.log.length - change.entries.length;
+    const keyId = this.codec?.keyId;
+    // Sealed (when locked) before the transaction: nothing but IndexedDB requests is awaited inside.
+    const pieces = await this.pieces(ws, change.entries.map((entry, i) => ({ seq: firstSeq + i, entry })));
 
     let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
     try {
-      tx = this.writeTx(['worksheets', 'summaries', 'log']);
+      tx = this.writeTx(['worksheets', 'summaries', 'log', 'meta']);
     } catch (err) {
       return failure(err, this.closed);
     }
     const done = tx.done;
     done.catch(() => undefined);
     try {
+      if (!(await lockMatches(tx, keyId))) {
+        this.abortQuietly(tx);
+        await done.catch(() => undefined);
+        return lockChangedFailure();
+      }
       const stored = await tx.objectStore('worksheets').get(ws.id);
       if (stored === undefined) {
         await done;
@@ -611,9 +762,10 @@ class NotebookStore implements Store {
       }
       const storedRev = (stored as { rev?: unknown }).rev;
       if (storedRev !== expectedRev) {
-        const current = await readIn(tx, ws.id);
+        const raw = await readRaw(tx, ws.id);
         await done;
-        if (!current) return { ok: false, reason: 'missing', message: `Worksheet "${ws.label}" is no longer in this notebook.` };
+        if (!raw) return { ok: false, reason: 'missing', message: `Worksheet "${ws.label}" is no longer in this notebook.` };
+        const current = await this.assembleRaw(ws.id, raw);
         return {
           ok: false,
           reason: 'conflict',
@@ -631,9 +783,10 @@ class NotebookStore implements Store {
       }
       const log = tx.objectStore('log');
       await Promise.all([
-        issued(tx.objectStore('worksheets').put(record)),
-        issued(tx.objectStore('summaries').put(summary)),
-        ...change.entries.map((entry, i) => issued(log.add({ worksheetId: ws.id, seq: firstSeq + i, entry }))),
+        issued(tx.objectStore('worksheets').put(pieces.record as StoredWorksheet)),
+        issued(tx.objectStore('summaries').put(pieces.summary as WorksheetSummary)),
+        // `add`, not `put`: an entry that already exists means the log did not continue; abort.
+        ...pieces.entries.map((entry) => issued(log.add(entry as StoredLogEntry))),
         done,
       ]);
     } catch (err) {
@@ -687,10 +840,12 @@ class NotebookStore implements Store {
     if (problems.length > 0) return invalid('The worksheets are not valid; nothing was written.', problems.slice(0, 50));
     const mayReplace = (id: string): boolean =>
       options.replace === true || (Array.isArray(options.replace) && options.replace.includes(id));
+    const keyId = this.codec?.keyId;
+    const allPieces = await Promise.all(worksheets.map((ws) => this.pieces(ws, ws.log.map((entry, seq) => ({ seq, entry })))));
 
     let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
     try {
-      tx = this.writeTx(['worksheets', 'summaries', 'log'], 'strict');
+      tx = this.writeTx(['worksheets', 'summaries', 'log', 'meta'], 'strict');
     } catch (err) {
       return failure(err, this.closed);
     }
@@ -700,6 +855,11 @@ class NotebookStore implements Store {
     const added: string[] = [];
     const replaced: string[] = [];
     try {
+      if (!(await lockMatches(tx, keyId))) {
+        this.abortQuietly(tx);
+        await done.catch(() => undefined);
+        return lockChangedFailure();
+      }
       const store = tx.objectStore('worksheets');
       const existing = await Promise.all(worksheets.map((ws) => issued(store.get(ws.id))));
       const refused = worksheets.filter((ws, i) => existing[i] !== undefined && !mayReplace(ws.id)).map((ws) => ws.id);
@@ -718,6 +878,7 @@ class NotebookStore implements Store {
         if (old === undefined) {
           added.push(ws.id);
           written.push(ws);
+          requests.push(...writePieces(tx, allPieces[i]!));
         } else {
           // A replaced worksheet gets a rev above the stored one, so an edit still open in another
           // tab on the old version is reported as a conflict instead of landing on the new data.
@@ -726,15 +887,105 @@ class NotebookStore implements Store {
           replaced.push(ws.id);
           written.push(next);
           requests.push(issued(tx.objectStore('log').delete(logRange(ws.id))));
+          // rev is one of the CLEAR_FIELDS, so it can be set without sealing again.
+          requests.push(...writePieces(tx, allPieces[i]!, next.rev));
         }
       });
-      for (const ws of written) requests.push(...writeWhole(tx, ws));
       await Promise.all([...requests, done]);
     } catch (err) {
       return this.abortWith(tx, err);
     }
     for (const ws of written) this.notify({ type: 'changed', id: ws.id, rev: ws.rev });
     return { ok: true, worksheets: written, added, replaced };
+  }
+
+  async reseal(next: RecordCodec | undefined, lock: unknown): Promise<MetaResult> {
+    if (this.closed) return closedFailure();
+    const keyId = this.codec?.keyId;
+    for (let attempt = 0; attempt < 5; attempt++) {
+      // 1. A snapshot of everything, read in one transaction.
+      let snapshot: { records: unknown[]; summaries: unknown[]; entries: unknown[]; lockNow: unknown };
+      try {
+        const tx = this.readTx(['worksheets', 'summaries', 'log', 'meta']);
+        const [records, summaries, entries, lockNow] = await Promise.all([
+          tx.objectStore('worksheets').getAll(),
+          tx.objectStore('summaries').getAll(),
+          tx.objectStore('log').getAll(),
+          tx.objectStore('meta').get(LOCK_META_KEY),
+          tx.done,
+        ]);
+        snapshot = { records, summaries, entries, lockNow };
+      } catch (err) {
+        return failure(err, this.closed);
+      }
+      if (lockKeyId(snapshot.lockNow) !== keyId) return lockChangedFailure();
+      // 2. Opened with the key in use and sealed with the next one, outside any transaction.
+      let rewritten: { records: Record<string, unknown>[]; summaries: Record<string, unknown>[]; entries: Record<string, unknown>[] };
+      try {
+        const convert = (store: SealedStore, values: unknown[]) =>
+          Promise.all(
+            values.map(async (v) => {
+              const plain = (await this.openValue(store, v)) as Record<string, unknown>;
+              return next ? next.seal(store, plain) : plain;
+            }),
+          );
+        const [records, summaries, entries] = await Promise.all([
+          convert('worksheets', snapshot.records),
+          convert('summaries', snapshot.summaries),
+          convert('log', snapshot.entries),
+        ]);
+        rewritten = { records, summaries, entries };
+      } catch (err) {
+        const message = err instanceof StoreError ? err.message : errorMessage(err);
+        return { ok: false, reason: 'failed', message: `The lock was not changed: ${message}` };
+      }
+      // 3. Written in one strict transaction, only if nothing changed since the snapshot.
+      let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
+      try {
+        tx = this.writeTx(['worksheets', 'summaries', 'log', 'meta'], 'strict');
+      } catch (err) {
+        return failure(err, this.closed);
+      }
+      const done = tx.done;
+      done.catch(() => undefined);
+      try {
+        const [records, logCount, summaryCount, lockNow] = await Promise.all([
+          tx.objectStore('worksheets').getAll(),
+          tx.objectStore('log').count(),
+          tx.objectStore('summaries').count(),
+          tx.objectStore('meta').get(LOCK_META_KEY),
+        ]);
+        const revs = (list: unknown[]) => list.map((r) => `${String((r as { id?: unknown }).id)}:${String((r as { rev?: unknown }).rev)}:${String((r as { logCount?: unknown }).logCount)}`).join('|');
+        const unchanged =
+          revs(records) === revs(snapshot.records) &&
+          logCount === snapshot.entries.length &&
+          summaryCount === snapshot.summaries.length &&
+          lockKeyId(lockNow) === keyId;
+        if (!unchanged) {
+          this.abortQuietly(tx);
+          await done.catch(() => undefined);
+          continue;
+        }
+        const meta = tx.objectStore('meta');
+        await Promise.all([
+          ...rewritten.records.map((r) => issued(tx.objectStore('worksheets').put(r as StoredWorksheet))),
+          ...rewritten.summaries.map((r) => issued(tx.objectStore('summaries').put(r as WorksheetSummary))),
+          ...rewritten.entries.map((r) => issued(tx.objectStore('log').put(r as StoredLogEntry))),
+          issued<unknown>(lock === undefined ? meta.delete(LOCK_META_KEY) : meta.put(lock, LOCK_META_KEY)),
+          done,
+        ]);
+      } catch (err) {
+        return this.abortWith(tx, err);
+      }
+      this.codec = next;
+      for (const r of rewritten.records) {
+        const id = r['id'];
+        const rev = r['rev'];
+        if (typeof id === 'string' && typeof rev === 'number') this.notify({ type: 'changed', id, rev });
+      }
+      return { ok: true };
+    }
+    return { ok: false, reason: 'failed', message: 'The notebook kept changing in another tab; the lock was not changed. Try again.' };
   }
 
   async getMeta(key: string): Promise<unknown> {
