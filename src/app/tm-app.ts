@@ -107,6 +107,11 @@ export class TmApp extends LitElement {
         background: #fbe4e4;
         color: var(--tm-missed);
       }
+      .storage {
+        font-size: 0.82rem;
+        white-space: nowrap;
+        opacity: 0.9;
+      }
       .banner {
         margin: 12px 16px 0;
         padding: 10px 14px;
@@ -255,6 +260,12 @@ export class TmApp extends LitElement {
 
   /** Shows the one-sentence welcome with the demo and new-worksheet choices. */
   @property({ type: Boolean }) welcome = false;
+
+  /**
+   * Whether the browser agreed to keep the notebook under storage pressure (navigator.storage.persist),
+   * set by main.ts; shown beside the save state. Undefined: not known yet.
+   */
+  @property({ attribute: false }) persistence?: 'persisted' | 'best-effort' | 'unsupported';
 
   @state() private listing: NotebookListing = { summaries: [], unreadable: [] };
   @state() private snap?: SessionSnapshot;
@@ -511,6 +522,25 @@ export class TmApp extends LitElement {
     return html`<span class="save failed" role="status">✕ Not saved</span>`;
   }
 
+  private storageNote() {
+    const p = this.persistence;
+    if (!p) return nothing;
+    if (p === 'persisted') {
+      return html`<span class="storage" title="The browser keeps this notebook until you remove it.">◆ Storage kept by the browser</span>`;
+    }
+    const why =
+      p === 'best-effort'
+        ? 'The browser did not grant persistent storage: it may clear this notebook when the device runs short of space. Export backups.'
+        : 'This browser cannot promise to keep the notebook. Export backups.';
+    return html`<span class="storage" title=${why}>◇ Storage may be cleared: export backups</span>`;
+  }
+
+  /** True while an edit is on screen but not yet (or not) saved. */
+  hasUnsavedWork(): boolean {
+    const s = this.snap?.save.kind;
+    return s !== undefined && s !== 'saved';
+  }
+
   private banners() {
     const out = [];
     if (this.welcome) {
@@ -590,7 +620,7 @@ export class TmApp extends LitElement {
       <header class="top">
         <div class="brand">Tidemark<small>resuscitation worksheet</small></div>
         <p class="caution" role="note">${CAUTION}</p>
-        ${this.saveBadge()}
+        ${this.saveBadge()} ${this.storageNote()}
       </header>
       ${this.banners()}
       <div class="layout ${this.railHidden ? 'rail-hidden' : ''}">
@@ -599,6 +629,7 @@ export class TmApp extends LitElement {
           : html`<aside class="rail">
               <tm-notebook .entries=${this.entries()} .currentId=${ws?.id} @tm-notebook=${(e: NotebookEvent) => void this.onNotebook(e)}></tm-notebook>
               <tm-units .prefs=${this.unitPrefs} @tm-units=${(e: UnitsEvent) => void this.setUnits(e.prefs)}></tm-units>
+              <slot name="rail-end"></slot>
               <p class="keys">
                 Keys: <kbd>Alt</kbd>+<kbd>S</kbd> worksheet, <kbd>Alt</kbd>+<kbd>G</kbd> goals, <kbd>Alt</kbd>+<kbd>W</kbd> worksheets,
                 <kbd>Alt</kbd>+<kbd>F</kbd> facts, <kbd>Alt</kbd>+<kbd>E</kbd> export, <kbd>Alt</kbd>+<kbd>N</kbd> new row.
