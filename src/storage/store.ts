@@ -282,6 +282,8 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
   const version = migrations[migrations.length - 1]?.version ?? DB_VERSION;
 
   let upgradeError: unknown;
+  /** The version existing data was migrated from (undefined for a new database or no upgrade). */
+  let migratedFrom: number | undefined;
   /** The upgrade steps' run; settles (never rejects) when they finish or fail. */
   let stepsRun: Promise<void> = Promise.resolve();
   let request: IDBOpenDBRequest;
@@ -293,6 +295,7 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
   const opening = wrap(request) as Promise<IDBPDatabase<unknown>>;
 
   request.addEventListener('upgradeneeded', (event) => {
+    if (event.oldVersion > 0) migratedFrom = event.oldVersion;
     const db = wrap(request.result);
     const tx = wrap(request.transaction!) as unknown as IDBPTransaction<unknown, string[], 'versionchange'>;
     // idb makes a `done` promise for every transaction; an aborted upgrade must not leave it unhandled.
@@ -352,6 +355,18 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
     opened.markClosed();
     options.onClosed?.();
   });
+  if (migratedFrom !== undefined && db.objectStoreNames.contains('meta')) {
+    // The upgrade transaction takes the browser's default durability (relaxed in Chromium since
+    // 121; the open() call has no option for it). A migration must not be lost once the app runs
+    // on the new shape, so a 'strict' write follows at once: committing it flushes the storage
+    // log, the upgrade's writes included, before anything is shown or written (reference §1.2).
+    try {
+      const flush = db.transaction('meta', 'readwrite', { durability: 'strict' });
+      await Promise.all([flush.objectStore('meta').put({ from: migratedFrom, to: db.version }, 'lastUpgrade'), flush.done]);
+    } catch {
+      // The upgrade itself has committed; a failed flush only means the browser's default applies.
+    }
+  }
   return opened;
 }
 
@@ -755,12 +770,29 @@ class NotebookStore implements Store {
         await done.catch(() => undefined);
         return lockChangedFailure();
       }
-      const stored = await tx.objectStore('worksheets').get(ws.id);
-      if (stored === undefined) {
-        await done;
-        return { ok: false, reason: 'missing', message: `Worksheet "${ws.label}" is no longer in this notebook (removed in another tab?).` };
+      // The stored rev and log length, read without loading the stored worksheet: its summary
+      // (written with the record in the same transaction every time; `rev` stays clear when
+      // sealed) carries the rev, and the log holds entries 0..logCount-1, so entry firstSeq must
+      // be free and the one before it taken. Reading the whole record back instead costs about
+      // as much as writing it: most of a commit of a long worksheet. Without a usable summary,
+      // the record is read as before.
+      const log = tx.objectStore('log');
+      const [head, nextKey, lastKey] = await Promise.all([
+        tx.objectStore('summaries').get(ws.id),
+        log.getKey([ws.id, firstSeq]),
+        firstSeq > 0 ? log.getKey([ws.id, firstSeq - 1]) : Promise.resolve(undefined),
+      ]);
+      let storedRev = (head as { rev?: unknown } | undefined)?.rev;
+      let storedCount: unknown = nextKey === undefined && (firstSeq === 0 || lastKey !== undefined) ? firstSeq : 'a different number of';
+      if (typeof storedRev !== 'number') {
+        const stored = await tx.objectStore('worksheets').get(ws.id);
+        if (stored === undefined) {
+          await done;
+          return { ok: false, reason: 'missing', message: `Worksheet "${ws.label}" is no longer in this notebook (removed in another tab?).` };
+        }
+        storedRev = (stored as { rev?: unknown }).rev;
+        storedCount = (stored as { logCount?: unknown }).logCount;
       }
-      const storedRev = (stored as { rev?: unknown }).rev;
       if (storedRev !== expectedRev) {
         const raw = await readRaw(tx, ws.id);
         await done;
@@ -773,7 +805,6 @@ class NotebookStore implements Store {
           current,
         };
       }
-      const storedCount = (stored as { logCount?: unknown }).logCount;
       if (storedCount !== firstSeq) {
         tx.abort();
         await done.catch(() => undefined);
@@ -781,7 +812,6 @@ class NotebookStore implements Store {
           `entries: the stored log has ${String(storedCount)} entries, the change starts at entry ${firstSeq}`,
         ]);
       }
-      const log = tx.objectStore('log');
       await Promise.all([
         issued(tx.objectStore('worksheets').put(pieces.record as StoredWorksheet)),
         issued(tx.objectStore('summaries').put(pieces.summary as WorksheetSummary)),
