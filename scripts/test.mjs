@@ -44,7 +44,9 @@ function binOf(pkg, name) {
   const { bin } = /** @type {{ bin: string | Record<string, string> }} */ (
     JSON.parse(readFileSync(join(packageDir, 'package.json'), 'utf8'))
   );
-  return join(packageDir, typeof bin === 'string' ? bin : bin[name]);
+  const entry = typeof bin === 'string' ? bin : bin[name];
+  if (entry === undefined) throw new Error(`${pkg} has no "${name}" command`);
+  return join(packageDir, entry);
 }
 
 /** @param {string} command */

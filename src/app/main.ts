@@ -133,7 +133,7 @@ function registerServiceWorker(): void {
     },
   });
   const url = policy ? policy.createScriptURL('./sw.js') : './sw.js';
-  navigator.serviceWorker.register(url as string, { scope: './' }).catch(() => {
+  navigator.serviceWorker.register(url, { scope: './' }).catch(() => {
     // Offline use after the first visit needs the worker; the app works online without it.
   });
 }

@@ -70,7 +70,9 @@ export const MAX_FUNCTION_ARGS = 20;
 
 // --- Layer 1: the restricted mathjs instance ------------------------------------------------
 
-const math = create(all, { predictable: true, number: 'number' });
+// mathjs declares `all` by destructuring a Record, so with noUncheckedIndexedAccess it reads as
+// possibly undefined; the package always exports it.
+const math = create(all!, { predictable: true, number: 'number' });
 /** Captured before the override; used only on text that is then walked by the allow-list. */
 const parseExpression = math.parse.bind(math);
 const SymbolNodeCtor = math.SymbolNode;

@@ -286,7 +286,7 @@ export function resolvedGoalIds(drafts: readonly GoalDraft[]): string[] {
   const typed = drafts.map((d) => d.id.trim());
   const out: string[] = [];
   drafts.forEach((d, i) => {
-    if (typed[i]) out.push(typed[i]!);
+    if (typed[i]) out.push(typed[i]);
     else out.push(goalIdFromLabel(d.label, [...typed.filter(Boolean), ...out]));
   });
   return out;

@@ -205,7 +205,7 @@ export function setFacts(ctx: Ctx, ws: Worksheet, patch: Partial<Facts>): Change
   const after = { ...before, ...patch };
   const base: Worksheet = { ...ws };
   for (const k of Object.keys(patch) as (keyof Facts)[]) delete (base as Record<string, unknown>)[k];
-  const next = { ...base, ...stripUndefined(after) } as Worksheet;
+  const next = { ...base, ...stripUndefined(after) };
   const changed = Object.fromEntries(Object.keys(patch).map((k) => [k, (before as unknown as Record<string, unknown>)[k] ?? null]));
   const now = Object.fromEntries(Object.keys(patch).map((k) => [k, (after as unknown as Record<string, unknown>)[k] ?? null]));
   return commit(ctx, next, {}, [{ kind: 'facts', old: JSON.stringify(changed), new: JSON.stringify(now) }]);

@@ -23,7 +23,7 @@ describe('demoWorksheet', () => {
     expect(ws.label).toBe(DEMO_LABEL);
     expect(ws.label).toMatch(/fictional/);
     expect(ws.demo).toBe(true);
-    expect(ws.rows.some((r) => typeof r.cells['note']?.value === 'string' && /fictional/.test(r.cells['note'].value as string))).toBe(true);
+    expect(ws.rows.some((r) => typeof r.cells['note']?.value === 'string' && /fictional/.test(r.cells['note'].value))).toBe(true);
     expect(ws.timeZero?.basis).toBe('triage');
     const elapsed = NOW - Date.parse(ws.timeZero!.time);
     expect(elapsed).toBeGreaterThanOrEqual(130 * 60_000);

@@ -79,9 +79,9 @@ describe('tm-custom-goals: evaluation on the rows', () => {
     // The same comparison made here on the fixture's own values.
     const texts = FIX_ROWS.map((r) => (r.sbp === undefined ? 'needs sbp' : r.sbp >= 90 ? 'true' : 'false'));
     expect(texts).to.deep.equal(['false', 'true', 'true', 'needs sbp']);
-    const line = $(el, '.editor [id^="target-rows-"]').textContent!.replace(/\s+/g, ' ').trim();
+    const line = $(el, '.editor [id^="target-rows-"]').textContent.replace(/\s+/g, ' ').trim();
     expect(line).to.equal(`Target, on the rows: false at ${clock(0)}; true at ${clock(40)} to ${clock(70)} (2 rows); needs sbp at ${clock(100)}`);
-    const cells = [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent!.replace(/[✓\s]+/g, ' ').trim()));
+    const cells = [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent.replace(/[✓\s]+/g, ' ').trim()));
     expect(cells).to.deep.equal(FIX_ROWS.map((r, i) => [clock(r.min), texts[i] === 'needs sbp' ? 'no value: needs sbp' : texts[i]]));
   });
 
@@ -167,7 +167,7 @@ describe('tm-custom-goals: saving', () => {
   it('may use the worksheet own columns in a target', async () => {
     const { el, events } = await mount(editorsWorksheet({ columns: true }));
     await addGoal(el, { label: 'Fluid pace', target: 'fluid_per_h >= 500' });
-    expect(message(el, 'target').textContent!.trim()).to.equal('');
+    expect(message(el, 'target').textContent.trim()).to.equal('');
     await save(el);
     expect(events[0]!.goals[0]!.target).to.equal('fluid_per_h >= 500');
   });

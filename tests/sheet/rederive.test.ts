@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { longWorksheet } from '../../scripts/bench/long-worksheet.js';
 import { FixedClock } from '../../src/sheet/clock.js';
 import { deriveAll, type DeriveOptions } from '../../src/sheet/derived.js';
-import type { Cell, Worksheet } from '../../src/sheet/model.js';
+import type { Worksheet } from '../../src/sheet/model.js';
 import { Worksheet as WorksheetSchema } from '../../src/sheet/model.js';
 import { changedCells, MAX_INCREMENTAL_CHANGES, rederive } from '../../src/sheet/rederive.js';
 import { addRow, setCells, setFacts, type CellEdit, type Ctx } from '../../src/sheet/worksheet.js';
@@ -86,7 +86,7 @@ function apply(ws: Worksheet, cmd: Command): Worksheet {
   const edits: CellEdit[] = cmd.edits.map((e) => ({
     rowId: ws.rows[e.row % ws.rows.length]!.id,
     key: e.key,
-    cell: e.clear ? null : ({ value: e.value } as Cell),
+    cell: e.clear ? null : { value: e.value },
   }));
   return setCells(ctx, ws, edits).worksheet;
 }

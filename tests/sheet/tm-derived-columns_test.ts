@@ -67,7 +67,7 @@ async function save(el: TmDerivedColumns): Promise<void> {
 
 /** Preview table cells: [time, value] per row. */
 function previewCells(el: TmDerivedColumns): string[][] {
-  return [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent!.trim()));
+  return [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent.trim()));
 }
 
 /** Up to 3 decimals, trailing zeros dropped: written here, not imported, to check the element. */
@@ -86,7 +86,7 @@ describe('tm-derived-columns: live preview', () => {
       ['09:40', expected[3]],
     ]);
     expect(expected.slice(0, 3)).to.deep.equal(['1.476', '1.217', '1.03']);
-    expect(message(el, 'expression').textContent!.trim()).to.equal('');
+    expect(message(el, 'expression').textContent.trim()).to.equal('');
     expect(field(el, 'expression').getAttribute('aria-invalid')).to.equal('false');
     await save(el);
     expect(events).to.have.length(1);
@@ -137,7 +137,7 @@ describe('tm-derived-columns: problems', () => {
     await save(el);
     expect(events).to.have.length(0);
     await type(el, 'key', 'map_est');
-    expect(message(el, 'key').textContent!.trim()).to.equal('');
+    expect(message(el, 'key').textContent.trim()).to.equal('');
     await save(el);
     expect(events).to.have.length(1);
   });
@@ -198,7 +198,7 @@ describe('tm-derived-columns: list and keyboard', () => {
     const { el } = await mount(editorsWorksheet({ columns: true }));
     $<HTMLButtonElement>(el, '#add').click();
     await el.updateComplete;
-    const help = $(el, '.editor details.help').textContent!;
+    const help = $(el, '.editor details.help').textContent;
     for (const name of ['lactate', 'uo_ml', 'shock_index', 'fluid_ml_kg', 'sofa', 'dosing_weight', 'baseline_sbp', 'prev(key)', 'running_sum(key)', 'sqrt()', 'fluid_per_h']) {
       expect(help, name).to.contain(name);
     }

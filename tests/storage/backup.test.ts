@@ -377,7 +377,7 @@ describe('hostile and malformed backups (fuzz)', () => {
       const all = positions(doc);
       const path = all[m.at % all.length]!;
       if (path.length === 0) continue;
-      let container = doc as Json;
+      let container = doc;
       for (const p of path.slice(0, -1)) container = (container as Record<string | number, Json>)[p]!;
       const last = path[path.length - 1]!;
       const target = (container as Record<string | number, Json>)[last];

@@ -307,7 +307,7 @@ describe('remove, putAll, meta', () => {
     expect(r.added).toEqual([b.id]);
     expect(r.replaced).toEqual([a.id]);
     // Imports use durability 'strict' (reference §1.2: migrations and bulk imports).
-    expect(txSpy.mock.calls.some((call) => (call[2] as IDBTransactionOptions | undefined)?.durability === 'strict')).toBe(true);
+    expect(txSpy.mock.calls.some((call) => (call[2])?.durability === 'strict')).toBe(true);
     const stored = (await store.get(a.id))!;
     expect(stored.rev).toBe(c2.worksheet.rev + 1);
     expect(stored).toStrictEqual({ ...a, rev: c2.worksheet.rev + 1 });
