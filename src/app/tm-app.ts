@@ -283,6 +283,11 @@ export class TmApp extends LitElement {
   @state() private unitPrefs: DisplayUnitPrefs = {};
   /** The units the grid shows, kept as one object so the grid re-renders only when they change. */
   @state() private unitMap: ReadonlyMap<string, UnitDef> = unitMapOf({});
+  /**
+   * The print layout exists only while printing: it rebuilds the note, the trends and the
+   * timeline, which on every edit of a long worksheet cost more than the grid and the goals.
+   */
+  @state() private printing = false;
 
   private session?: WorksheetSession;
   private unsubscribe?: () => void;
@@ -294,16 +299,31 @@ export class TmApp extends LitElement {
   override connectedCallback(): void {
     super.connectedCallback();
     this.addEventListener('keydown', this.onKey);
+    window.addEventListener('beforeprint', this.onBeforePrint);
+    window.addEventListener('afterprint', this.onAfterPrint);
     this.tick();
   }
 
   override disconnectedCallback(): void {
     super.disconnectedCallback();
     this.removeEventListener('keydown', this.onKey);
+    window.removeEventListener('beforeprint', this.onBeforePrint);
+    window.removeEventListener('afterprint', this.onAfterPrint);
     this.unsubscribe?.();
     this.unwatch?.();
     if (this.timer) clearTimeout(this.timer);
   }
+
+  private readonly onBeforePrint = (): void => {
+    this.printing = true;
+    // print() called from a script (the Print button) lays the page out before any microtask
+    // runs, so render the print layout now rather than in Lit's next update.
+    flushUpdatesNow(this);
+  };
+
+  private readonly onAfterPrint = (): void => {
+    this.printing = false;
+  };
 
   protected override updated(changed: Map<PropertyKey, unknown>): void {
     if (changed.has('store') && this.store) void this.load();
@@ -614,7 +634,7 @@ export class TmApp extends LitElement {
   override render() {
     const ws = this.snap?.worksheet;
     return html`
-      ${ws
+      ${ws && this.printing
         ? html`<tm-print class="print-only" .worksheet=${ws} .derived=${this.derivation?.rows ?? []} .goals=${this.goals} .now=${this.now}></tm-print>`
         : nothing}
       <header class="top">
@@ -738,6 +758,27 @@ export class TmApp extends LitElement {
           : nothing}
       </div>
     `;
+  }
+}
+
+/**
+ * Runs every pending Lit update under `root` now, nested elements included (they are created by
+ * their parent's update and schedule their own), instead of in the next microtasks.
+ */
+export function flushUpdatesNow(root: Element): void {
+  type Pending = Element & { isUpdatePending?: boolean; performUpdate?: () => void };
+  for (let pass = 0; pass < 20; pass++) {
+    let ran = false;
+    const visit = (el: Pending): void => {
+      if (el.isUpdatePending === true && typeof el.performUpdate === 'function') {
+        el.performUpdate();
+        ran = true;
+      }
+      const inner = el.shadowRoot;
+      if (inner) for (const child of inner.querySelectorAll<Pending>('*')) visit(child);
+    };
+    visit(root as Pending);
+    if (!ran) return;
   }
 }
 

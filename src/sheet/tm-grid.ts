@@ -169,19 +169,36 @@ export class TmGrid extends LitElement {
   private windowFirst = 0;
   private windowLast = 0;
   private rowPx = ROW_PX_GUESS;
+  /**
+   * The scroller's geometry as last read (on scroll and after each render), so working out the
+   * window never forces a layout in the middle of rendering.
+   */
+  private view = { top: 0, height: 0, head: 0 };
+  /** The window and row count the row height was last measured for. */
+  private measuredFor = '';
   /** A row to bring into view once it is rendered (a highlighted row far from the viewport). */
   private revealRowId: string | null = null;
   private scrollerEl: HTMLElement | null = null;
+  private resizeObserver: ResizeObserver | undefined;
   private readonly onScroll = (): void => {
     if (!this.virtual()) return;
+    this.readView();
     const [first, last] = this.windowAround();
     if (first !== this.windowFirst || last !== this.windowLast) this.requestUpdate();
   };
+
+  override connectedCallback(): void {
+    super.connectedCallback();
+    // Moved in the page: listen to the scroller again (updated() attaches the listeners).
+    if (this.hasUpdated) this.requestUpdate();
+  }
 
   override disconnectedCallback(): void {
     super.disconnectedCallback();
     if (this.noteTimer !== undefined) clearTimeout(this.noteTimer);
     this.scrollerEl?.removeEventListener('scroll', this.onScroll);
+    this.resizeObserver?.disconnect();
+    this.resizeObserver = undefined;
     this.scrollerEl = null;
   }
 
@@ -198,19 +215,24 @@ export class TmGrid extends LitElement {
     return this.rows.length > VIRTUALISE_ABOVE;
   }
 
-  /** The window of rows to render for the scroller's current position: [first, last). */
+  /** Reads the scroller's geometry (call only where layout is already clean or needed anyway). */
+  private readView(): void {
+    const s = this.scrollerEl;
+    if (!s) return;
+    this.view = { top: s.scrollTop, height: s.clientHeight, head: (s.querySelector('thead') as HTMLElement | null)?.offsetHeight ?? 0 };
+  }
+
+  /** The window of rows to render for the scroller's last known position: [first, last). */
   private windowAround(): [number, number] {
     const n = this.rows.length;
     if (!this.virtual()) return [0, n];
-    const s = this.scrollerEl;
-    const view = s && s.clientHeight > 0 ? s.clientHeight : VIEW_PX_GUESS;
+    const view = this.view.height > 0 ? this.view.height : VIEW_PX_GUESS;
     const perView = Math.ceil(view / this.rowPx) + 1;
-    if (!s || this.scrollToEnd) {
+    if (!this.scrollerEl || this.scrollToEnd) {
       // Before layout, and when about to scroll to the newest row: the last rows.
       return [Math.max(0, n - perView - OVERSCAN), n];
     }
-    const head = (s.querySelector('thead') as HTMLElement | null)?.offsetHeight ?? 0;
-    const top = Math.max(0, s.scrollTop - head);
+    const top = Math.max(0, this.view.top - this.view.head);
     const first = Math.max(0, Math.min(n - 1, Math.floor(top / this.rowPx)) - OVERSCAN);
     const last = Math.min(n, Math.floor(top / this.rowPx) + perView + OVERSCAN);
     return [first, Math.max(first + 1, last)];
@@ -252,7 +274,9 @@ export class TmGrid extends LitElement {
   private layoutSpacers(): void {
     const body = this.renderRoot.querySelector('tbody');
     if (!body) return;
-    if (this.virtual()) {
+    const key = `${this.windowFirst}:${this.windowLast}:${this.rows.length}`;
+    if (this.virtual() && key !== this.measuredFor) {
+      this.measuredFor = key;
       const heights = [...body.querySelectorAll<HTMLElement>('tr[role="row"]')]
         .slice(0, 24)
         .map((r) => r.offsetHeight)
@@ -266,7 +290,8 @@ export class TmGrid extends LitElement {
       }
     }
     for (const gap of body.querySelectorAll<HTMLElement>('tr.gap')) {
-      gap.style.height = `${Number(gap.dataset['rows'] ?? 0) * this.rowPx}px`;
+      const height = `${Number(gap.dataset['rows'] ?? 0) * this.rowPx}px`;
+      if (gap.style.height !== height) gap.style.height = height;
     }
   }
 
@@ -400,13 +425,22 @@ export class TmGrid extends LitElement {
     const scroller = this.scroller ?? null;
     if (scroller !== this.scrollerEl) {
       this.scrollerEl?.removeEventListener('scroll', this.onScroll);
+      this.resizeObserver?.disconnect();
       scroller?.addEventListener('scroll', this.onScroll, { passive: true });
+      if (scroller && typeof ResizeObserver === 'function') {
+        // A taller viewport (window resized) needs more rows rendered.
+        this.resizeObserver = new ResizeObserver(() => this.onScroll());
+        this.resizeObserver.observe(scroller);
+      }
       this.scrollerEl = scroller;
     }
     this.layoutSpacers();
     if (this.scrollToEnd && this.rows.length > 0 && this.scroller) {
       this.scrollToEnd = false;
       this.scroller.scrollTop = this.scroller.scrollHeight;
+      if (this.virtual()) this.readView();
+    } else if (this.virtual() && this.view.height === 0) {
+      this.readView();
     }
     if (this.focusAfterUpdate) {
       this.focusAfterUpdate = false;
