@@ -17,7 +17,7 @@ interface BuildModule {
   CSP: string;
 }
 interface ServeModule {
-  serveDist(options: { dir?: string; port?: number }): Promise<{ server: { close(cb?: () => void): void }; port: number }>;
+  serveDist(options: { dir?: string; port?: number }): Promise<{ server: import('node:http').Server; port: number }>;
 }
 interface FindChromeModule {
   findChrome(): string | null;
@@ -49,6 +49,8 @@ export interface ServedApp {
   /** The CSP the build puts in its meta tag and the server sends as a header. */
   csp: string;
   dir: string;
+  /** Every request this server received (method and path), as the server saw them. */
+  requests: string[];
   close(): Promise<void>;
 }
 
@@ -60,17 +62,33 @@ export async function buildAndServe(): Promise<ServedApp> {
   await build({ quiet: true, outDir: dir });
   const { server, port } = await serveDist({ dir: `${dir}/` });
   const origin = `http://127.0.0.1:${port}`;
+  const requests: string[] = [];
+  server.on('request', (req) => requests.push(`${req.method} ${req.url}`));
   return {
     url: `${origin}/`,
     origin,
     csp: CSP,
     dir,
+    requests,
     close: () =>
       new Promise<void>((resolve) => {
         server.close(() => resolve());
         rmSync(dir, { recursive: true, force: true });
       }),
   };
+}
+
+/**
+ * Serves an already built app folder on another port: a new origin, so a test gets an empty
+ * notebook (storage is per origin) without building again.
+ */
+export async function serveAgain(built: ServedApp): Promise<ServedApp> {
+  const { serveDist } = await load<ServeModule>('scripts/serve.mjs');
+  const { server, port } = await serveDist({ dir: `${built.dir}/` });
+  const origin = `http://127.0.0.1:${port}`;
+  const requests: string[] = [];
+  server.on('request', (req) => requests.push(`${req.method} ${req.url}`));
+  return { url: `${origin}/`, origin, csp: built.csp, dir: built.dir, requests, close: () => new Promise<void>((r) => server.close(() => r())) };
 }
 
 /** A Chromium process with an on-disk profile, which the test may kill and start again. */
