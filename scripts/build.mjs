@@ -5,7 +5,7 @@
 import { createHash } from 'node:crypto';
 import { mkdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { gzipSync } from 'node:zlib';
-import { fileURLToPath } from 'node:url';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import * as esbuild from 'esbuild';
 
 const root = fileURLToPath(new URL('..', import.meta.url));
@@ -92,4 +92,6 @@ export async function build({ quiet = false, outDir = dist } = {}) {
   return stats;
 }
 
-if (import.meta.url === `file://${process.argv[1]}`) await build();
+// Run directly (not imported): build. pathToFileURL escapes spaces and other characters in the path.
+const invokedAs = process.argv[1];
+if (invokedAs !== undefined && import.meta.url === pathToFileURL(invokedAs).href) await build();

@@ -46,7 +46,6 @@ const server = await startDevServer({
 
 console.log(`Tidemark (development server) is running at http://localhost:${port}/ — press Ctrl+C to stop`);
 
-process.on('SIGTERM', async () => {
-  await server.stop();
-  process.exit(0);
+process.on('SIGTERM', () => {
+  void server.stop().finally(() => process.exit(0));
 });

@@ -23,7 +23,8 @@ const TYPES = {
  * @returns {Promise<{ server: import('node:http').Server; port: number }>}
  */
 export function serveDist({ dir = fileURLToPath(new URL('../dist/', import.meta.url)), port = 0 } = {}) {
-  const server = createServer(async (req, res) => {
+  /** @type {(req: import('node:http').IncomingMessage, res: import('node:http').ServerResponse) => Promise<void>} */
+  const handle = async (req, res) => {
     try {
       const path = decodeURIComponent(new URL(req.url ?? '/', 'http://x').pathname);
       let file = normalize(join(dir, path));
@@ -44,7 +45,9 @@ export function serveDist({ dir = fileURLToPath(new URL('../dist/', import.meta.
     } catch {
       res.writeHead(404, { 'Content-Type': 'text/plain' }).end('Not found');
     }
-  });
+  };
+  // `handle` answers every request itself, errors included.
+  const server = createServer((req, res) => void handle(req, res));
   return new Promise((resolve, reject) => {
     server.once('error', reject);
     server.listen(port, '127.0.0.1', () => {

@@ -7,12 +7,19 @@ import { serveDist } from './serve.mjs';
 
 await build({ quiet: true });
 const first = Number.parseInt(process.env.PORT ?? '', 10) || 8000;
+/** @type {Awaited<ReturnType<typeof serveDist>> | undefined} */
 let started;
 for (let port = first; port < first + 100 && !started; port += 1) {
-  started = await serveDist({ port }).catch((e) => (e.code === 'EADDRINUSE' ? undefined : Promise.reject(e)));
+  try {
+    started = await serveDist({ port });
+  } catch (e) {
+    // A port in use: try the next one; anything else is a real failure.
+    if (!(e instanceof Error && /** @type {NodeJS.ErrnoException} */ (e).code === 'EADDRINUSE')) throw e;
+  }
 }
 if (!started) throw new Error(`No free port from ${first}.`);
 console.log(`Tidemark is running at http://localhost:${started.port}/ — press Ctrl+C to stop`);
-const stop = () => started.server.close(() => process.exit(0));
+const { server } = started;
+const stop = () => server.close(() => process.exit(0));
 process.on('SIGTERM', stop);
 process.on('SIGINT', stop);

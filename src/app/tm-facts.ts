@@ -128,7 +128,8 @@ export class TmFacts extends LitElement {
     this.dirty = true;
   }
 
-  private submit(e: Event): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly submit = (e: Event): void => {
     e.preventDefault();
     const ws = this.worksheet;
     if (!ws || !this.fields) return;
@@ -137,14 +138,14 @@ export class TmFacts extends LitElement {
       this.errors = r.errors;
       this.warnings = {};
       const first = Object.keys(r.errors)[0];
-      this.updateComplete.then(() => (this.renderRoot.querySelector(`[name="${first}"]`) as HTMLElement | null)?.focus());
+      if (first !== undefined) void this.updateComplete.then(() => this.renderRoot.querySelector<HTMLElement>(`[name="${first}"]`)?.focus());
       return;
     }
     this.errors = {};
     this.warnings = r.warnings;
     this.dirty = false;
     this.dispatchEvent(new FactsEvent(r.patch));
-  }
+  };
 
   private field(name: keyof FactsFields, label: string, hint?: string, inputmode = 'decimal') {
     const f = this.fields!;

@@ -121,7 +121,8 @@ export class TmNotebook extends LitElement {
     this.dispatchEvent(new NotebookEvent(action));
   }
 
-  private create(e: Event): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly create = (e: Event): void => {
     e.preventDefault();
     const input = (e.target as HTMLFormElement).elements.namedItem('label') as HTMLInputElement;
     const label = input.value.trim();
@@ -133,7 +134,7 @@ export class TmNotebook extends LitElement {
     this.newError = '';
     input.value = '';
     this.act({ type: 'create', label });
-  }
+  };
 
   private rename(e: Event, id: string): void {
     e.preventDefault();

@@ -515,7 +515,7 @@ export class TmTrends extends LitElement {
     e.preventDefault();
     this.active = { ...this.active, [s.key]: next };
     void this.updateComplete.then(() => {
-      (this.renderRoot.querySelector(`figure[data-key="${s.key}"] .pt[data-index="${next}"]`) as SVGElement | null)?.focus();
+      this.renderRoot.querySelector<SVGElement>(`figure[data-key="${s.key}"] .pt[data-index="${next}"]`)?.focus();
     });
   }
 
@@ -559,7 +559,7 @@ export class TmTrends extends LitElement {
     const counts = new Map<string, number>();
     for (const g of m.goals) counts.set(g.status, (counts.get(g.status) ?? 0) + 1);
     const order = ['missed', 'pending', 'met', 'no-data', 'not-applicable'] as const;
-    const tally = order.filter((s) => counts.has(s)).map((s) => `${STATUS_SYMBOL[s]}${counts.get(s)}`).join(' ');
+    const tally = order.filter((s) => counts.has(s)).map((s) => `${STATUS_SYMBOL[s]}${counts.get(s) ?? 0}`).join(' ');
     return `${minutesLabel(m.minutes)} ${tally}`;
   }
 
@@ -655,7 +655,7 @@ export class TmTrends extends LitElement {
       const ly = labelY(b.kind === 'range' && b.max === null ? yBottom : yTop);
       const lx = W - RIGHT + 6;
       return svg`<text class="band-label" x=${lx} y=${ly}>${b.shortText}</text>
-        <text class="band-sets" x=${lx} y=${ly + 11}>${b.kind === 'drop' ? `−${b.dropPct}% · ` : ''}${b.sets.join(', ')}</text>`;
+        <text class="band-sets" x=${lx} y=${ly + 11}>${b.kind === 'drop' && b.dropPct !== null ? `−${b.dropPct}% · ` : ''}${b.sets.join(', ')}</text>`;
     })}`;
   }
 

@@ -597,12 +597,14 @@ function mergeBands(
     const u = unit ? ` ${unit}` : '';
     const rangeText =
       b.kind === 'drop'
-        ? `≥ ${b.dropPct}% below the first value (≤ ${valueText(key, b.max!)}${u})`
+        ? `≥ ${b.dropPct ?? 0}% below the first value (≤ ${valueText(key, b.max!)}${u})`
         : b.min !== null && b.max !== null
           ? `${b.min}–${b.max}${u}`
           : b.min !== null
             ? `≥ ${b.min}${u}`
-            : `≤ ${b.max}${u}`;
+            : b.max !== null
+              ? `≤ ${b.max}${u}`
+              : 'any value';
     out.push({
       goalIds: [b.goalId],
       key,

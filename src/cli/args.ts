@@ -72,7 +72,8 @@ export function parseCliArgs(argv: readonly string[]): ParsedArgs {
   if (path === undefined || path === '') {
     return { kind: 'usage-error', message: `${cmd} needs a ${cmd === 'review' ? 'FOLDER' : 'FILE'}` };
   }
-  if (extra.length > 0) return { kind: 'usage-error', message: `unexpected argument "${extra[0]}"` };
+  const [unexpected] = extra;
+  if (unexpected !== undefined) return { kind: 'usage-error', message: `unexpected argument "${unexpected}"` };
   for (const name of Object.keys(v)) {
     if (name === 'help' || name === 'version') continue;
     if (!ALLOWED[cmd].includes(name)) return { kind: 'usage-error', message: `--${name} does not apply to ${cmd}` };

@@ -49,6 +49,7 @@ export const DERIVED_PREFIX = 'derived.';
 export const FORMULA_LEAD = new Set(['=', '+', '-', '@', '\t', '\r', '\n', '\0', '\uFF1D', '\uFF0B', '\uFF0D', '\uFF20']);
 
 /** Invisible or blank characters a spreadsheet may skip before reading a formula. */
+// eslint-disable-next-line no-control-regex -- control characters are exactly what this pattern skips
 const INVISIBLE = /^[\s\u0000-\u001F\u007F-\u009F\u00A0\u00AD\u180E\u200B-\u200F\u2028-\u202F\u205F-\u2064\u3000\uFEFF]*/u;
 
 /** True when a text field would be read as a formula (or could be, after invisible characters). */

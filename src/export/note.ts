@@ -302,6 +302,8 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
   const late = lateEntries(wsAt);
   const lateAt = new Map<string, number>();
   for (const e of late) {
+    // Only entries of a row's cell can mark a timeline row.
+    if (e.rowId === undefined || e.key === undefined) continue;
     const k = `${e.rowId}|${e.key}`;
     if (!lateAt.has(k)) lateAt.set(k, Date.parse(e.at));
   }

@@ -39,12 +39,11 @@ export function orderGoals(goals: readonly GoalStatus[]): GoalStatus[] {
  * Seconds are shown in the last ten minutes before a deadline.
  */
 export function goalTimeText(g: GoalStatus, nowMs: number, offset: number): string {
-  const due = g.deadline ? formatClock(g.deadline, offset) : null;
   switch (g.status) {
     case 'pending': {
       if (!g.deadline) return g.target ? 'standing target' : 'open';
       const left = Date.parse(g.deadline) - nowMs;
-      return `${formatDuration(Math.max(left, 0), left < 10 * 60_000)} left · due ${due}`;
+      return `${formatDuration(Math.max(left, 0), left < 10 * 60_000)} left · due ${formatClock(g.deadline, offset)}`;
     }
     case 'missed': {
       if (g.late && g.metAt) {
@@ -52,7 +51,7 @@ export function goalTimeText(g: GoalStatus, nowMs: number, offset: number): stri
         return `done ${formatClock(g.metAt, offset)}, ${formatDuration(late)} late`;
       }
       if (!g.deadline) return 'not met';
-      return `overdue ${formatDuration(nowMs - Date.parse(g.deadline))} · was due ${due}`;
+      return `overdue ${formatDuration(nowMs - Date.parse(g.deadline))} · was due ${formatClock(g.deadline, offset)}`;
     }
     case 'met': {
       if (!g.metAt) return 'met';

@@ -18,7 +18,7 @@ import {
   type EvalContext,
   type TimedRow,
 } from './context.js';
-import type { HypotensionTest, Predicate } from './schema.js';
+import type { Comparison, HypotensionTest, Predicate } from './schema.js';
 
 export type Tri = 'yes' | 'no' | 'unknown';
 
@@ -39,7 +39,7 @@ function windowStart(ctx: EvalContext, lookbackMinutes: number | undefined): num
   return ctx.t0Ms - (lookbackMinutes ?? 0) * MINUTE_MS;
 }
 
-const OP_WORDS: Record<string, string> = { '>': 'above', '>=': 'at or above', '<': 'below', '<=': 'at or below' };
+const OP_WORDS: Record<Comparison, string> = { '>': 'above', '>=': 'at or above', '<': 'below', '<=': 'at or below' };
 
 // --- Blood pressure readings -----------------------------------------------------------------
 

@@ -252,7 +252,7 @@ export const GoalSetDef = z.strictObject({
   source: z.string().min(1).max(400),
   goals: z.array(GoalDef).min(1).max(50),
 }).refine((s) => new Set(s.goals.map((g) => g.id)).size === s.goals.length, {
-  message: 'goal ids within a set must be unique',
+  error: 'goal ids within a set must be unique',
   path: ['goals'],
 });
 export type GoalSetDef = z.infer<typeof GoalSetDef>;

@@ -278,17 +278,18 @@ export class TmCustomGoals extends LitElement {
   }
 
   private focusLater(selector: string): void {
-    void this.updateComplete.then(() => (this.renderRoot.querySelector(selector) as HTMLElement | null)?.focus());
+    void this.updateComplete.then(() => this.renderRoot.querySelector<HTMLElement>(selector)?.focus());
   }
 
-  private add(): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly add = (): void => {
     const uid = this.nextUid++;
     this.items = [...this.items, { uid, draft: { id: '', label: '', condition: '', target: '', deadline: '' } }];
     this.openUid = uid;
     this.dirty = true;
     this.status = '';
     this.focusLater(`#label-${uid}`);
-  }
+  };
 
   private removeItem(uid: number): void {
     const at = this.items.findIndex((i) => i.uid === uid);
@@ -314,12 +315,14 @@ export class TmCustomGoals extends LitElement {
     this.focusLater(`#edit-${uid}`);
   }
 
-  private discard(): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly discard = (): void => {
     if (this.worksheet) this.load(this.worksheet);
     this.status = 'Changes discarded.';
-  }
+  };
 
-  private save(e: Event): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly save = (e: Event): void => {
     e.preventDefault();
     const ws = this.worksheet;
     if (!ws) return;
@@ -339,7 +342,7 @@ export class TmCustomGoals extends LitElement {
     this.dirty = false;
     this.status = `Saved ${result.goals.length === 1 ? 'one goal' : `${result.goals.length} goals`}${this.now ? ` at ${formatClock(new Date(this.now).toISOString(), ws.displayOffset)}` : ''}.`;
     this.dispatchEvent(new CustomGoalsEvent(result.goals));
-  }
+  };
 
   private input(
     item: Item,

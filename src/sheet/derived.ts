@@ -390,7 +390,7 @@ export function compileColumns(columns: readonly DerivedColumn[]): ColumnPlan {
 
 // --- deriveAll --------------------------------------------------------------------------------
 
-export interface DeriveOptions extends ScoreOptions {}
+export type DeriveOptions = ScoreOptions;
 
 export interface RowDerivation extends DerivedRow {
   /** SOFA, qSOFA and SIRS at this row, with their parts and missing inputs. */

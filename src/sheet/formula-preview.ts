@@ -340,7 +340,7 @@ export function goalProblems(drafts: readonly GoalDraft[], columnKeys: readonly 
     if (typed && !GOAL_ID.test(typed)) {
       p.id = { message: 'An id starts with a lower-case letter and has only lower-case letters, digits and - (at most 40); or leave it empty to make one from the label.' };
     } else if (ids.indexOf(ids[i]!) !== i) {
-      p.id = { message: `Another of your goals already uses the id "${ids[i]}".` };
+      p.id = { message: `Another of your goals already uses the id "${ids[i]!}".` };
     }
     if (d.condition.trim() !== '') {
       const c = checkFormula(d.condition, columnKeys);

@@ -58,7 +58,7 @@ export const TimeZero = z.strictObject({
   /** Free text, required when basis is `other`. */
   reason: z.string().max(500).optional(),
 }).refine((t) => t.basis !== 'other' || (t.reason ?? '').trim().length > 0, {
-  message: 'say why time zero was chosen when its basis is "other"',
+  error: 'say why time zero was chosen when its basis is "other"',
   path: ['reason'],
 });
 export type TimeZero = z.infer<typeof TimeZero>;

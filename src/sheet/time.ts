@@ -52,7 +52,7 @@ export function parseTimeInput(text: string, offset: number, referenceMs?: numbe
   if (iso) {
     const [, y, mo, d, h, mi, s, ms, off] = iso;
     const o = off === undefined ? offset : parseOffset(off);
-    if (o === undefined) return { ok: false, error: `"${off}" is not a time zone offset; write it as +01:00 or Z.` };
+    if (o === undefined) return { ok: false, error: `"${off ?? ''}" is not a time zone offset; write it as +01:00 or Z.` };
     const Y = Number(y), M = Number(mo), D = Number(d), H = Number(h), MI = Number(mi), S = Number(s ?? 0);
     if (M < 1 || M > 12 || D < 1 || D > 31 || H > 23 || MI > 59 || S > 59) {
       return { ok: false, error: `"${raw}" is not a valid date and time.` };

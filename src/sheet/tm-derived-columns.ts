@@ -207,17 +207,18 @@ export class TmDerivedColumns extends LitElement {
   }
 
   private focusLater(selector: string): void {
-    void this.updateComplete.then(() => (this.renderRoot.querySelector(selector) as HTMLElement | null)?.focus());
+    void this.updateComplete.then(() => this.renderRoot.querySelector<HTMLElement>(selector)?.focus());
   }
 
-  private add(): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly add = (): void => {
     const uid = this.nextUid++;
     this.items = [...this.items, { uid, draft: { key: '', label: '', expression: '', unit: '' } }];
     this.openUid = uid;
     this.dirty = true;
     this.status = '';
     this.focusLater(`#key-${uid}`);
-  }
+  };
 
   private removeItem(uid: number): void {
     const at = this.items.findIndex((i) => i.uid === uid);
@@ -243,12 +244,14 @@ export class TmDerivedColumns extends LitElement {
     this.focusLater(`#edit-${uid}`);
   }
 
-  private discard(): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly discard = (): void => {
     if (this.worksheet) this.load(this.worksheet);
     this.status = 'Changes discarded.';
-  }
+  };
 
-  private save(e: Event): void {
+  // An arrow function: it is handed to a template as an event listener.
+  private readonly save = (e: Event): void => {
     e.preventDefault();
     const ws = this.worksheet;
     if (!ws) return;
@@ -269,7 +272,7 @@ export class TmDerivedColumns extends LitElement {
     this.dirty = false;
     this.status = `Saved ${result.columns.length === 1 ? 'one column' : `${result.columns.length} columns`}${this.now ? ` at ${formatClock(new Date(this.now).toISOString(), ws.displayOffset)}` : ''}.`;
     this.dispatchEvent(new DerivedColumnsEvent(result.columns));
-  }
+  };
 
   private input(item: Item, field: ColumnField, label: string, problem: FieldProblem | undefined, opts: { hint?: string; mono?: boolean; formula?: boolean } = {}): TemplateResult {
     const id = `${field}-${item.uid}`;

@@ -101,8 +101,8 @@ describe('tm-trends: the demo worksheet’s trends match its rows', () => {
       const got = points(h.root, key).map((p) => ({ rowId: p.dataset['row'], value: Number(p.dataset['value']), minutes: Number(p.dataset['minutes']) }));
       expect(got.map((g) => g.rowId), key).to.deep.equal(expected.map((e) => e.rowId));
       got.forEach((g, i) => {
-        expect(g.value, `${key} value at ${g.rowId}`).to.be.closeTo(expected[i]!.value!, 1e-9);
-        expect(g.minutes, `${key} minutes at ${g.rowId}`).to.equal(expected[i]!.minutes);
+        expect(g.value, `${key} value at ${String(g.rowId)}`).to.be.closeTo(expected[i]!.value!, 1e-9);
+        expect(g.minutes, `${key} minutes at ${String(g.rowId)}`).to.equal(expected[i]!.minutes);
       });
     }
     // The demo charts MAP at most rows, lactate once, ScvO₂ once, urine from 45 min, NE from 100 min.
@@ -161,7 +161,7 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
         expect(rects, t.id).to.have.length(1);
         expect(rects[0]!.dataset['min'], `${t.id} min`).to.equal(t.min === undefined ? '' : String(t.min));
         expect(rects[0]!.dataset['max'], `${t.id} max`).to.equal(t.max === undefined ? '' : String(t.max));
-        const word = t.min !== undefined && t.max !== undefined ? `target ${t.min}–${t.max}` : t.min !== undefined ? `target ≥ ${t.min}` : `target ≤ ${t.max}`;
+        const word = t.min !== undefined && t.max !== undefined ? `target ${t.min}–${t.max}` : t.min !== undefined ? `target ≥ ${t.min}` : `target ≤ ${String(t.max)}`;
         const labels = [...h.root.querySelectorAll(`figure[data-key="${t.key}"] text.band-label`)].map((x) => x.textContent);
         expect(labels, t.id).to.include(word);
       }
@@ -200,12 +200,12 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
         const label = p.getAttribute('aria-label') ?? '';
         if (verdict === 'in') {
           judged += 1;
-          expect(inForce.every(inside), `${key} ${p.dataset['row']} inside`).to.equal(true);
+          expect(inForce.every(inside), `${key} ${String(p.dataset['row'])} inside`).to.equal(true);
           expect(p.querySelector('circle.mark'), 'in range: a dot').to.not.equal(null);
           expect(label).to.contain('in range');
         } else if (verdict === 'above' || verdict === 'below') {
           judged += 1;
-          expect(inForce.some((r) => !inside(r)), `${key} ${p.dataset['row']} outside`).to.equal(true);
+          expect(inForce.some((r) => !inside(r)), `${key} ${String(p.dataset['row'])} outside`).to.equal(true);
           const d = p.querySelector('path.mark')!.getAttribute('d')!;
           // ▲ above: apex up (negative y); ▼ below: apex down.
           expect(d.startsWith(verdict === 'above' ? 'M0,-' : 'M0,7'), `${key} shape`).to.equal(true);

@@ -75,6 +75,13 @@ function focusedCell(g: TmGrid): HTMLElement {
   return el;
 }
 
+/** "row:column" of a grid cell; throws when the cell does not carry both. */
+function cellId(el: HTMLElement): string {
+  const { row, col } = el.dataset;
+  if (row === undefined || col === undefined) throw new Error('cell without data-row / data-col');
+  return `${row}:${col}`;
+}
+
 function inView(g: TmGrid, el: Element): boolean {
   const box = scroller(g).getBoundingClientRect();
   const r = el.getBoundingClientRect();
@@ -166,7 +173,7 @@ describe('tm-grid at 5,000 rows: keyboard model (APG data grid)', () => {
     root(g).querySelector<HTMLElement>('table [tabindex="0"]')!.focus();
     await press('ArrowRight');
     const active = focusedCell(g);
-    const id = `${active.dataset['row']}:${active.dataset['col']}`;
+    const id = cellId(active);
     const s = scroller(g);
     s.scrollTop = 0;
     s.dispatchEvent(new Event('scroll'));
@@ -174,12 +181,12 @@ describe('tm-grid at 5,000 rows: keyboard model (APG data grid)', () => {
     expect(renderedRows(g).length).to.be.at.most(MAX_RENDERED);
     const stops = root(g).querySelectorAll<HTMLElement>('table [tabindex="0"]');
     expect(stops.length).to.equal(1);
-    expect(`${stops[0]!.dataset['row']}:${stops[0]!.dataset['col']}`).to.equal(id);
+    expect(cellId(stops[0]!)).to.equal(id);
     // Tab leaves the grid; Shift+Tab comes back to the same cell, brought into view.
     await press('Tab');
     await press('Shift+Tab');
     const back = focusedCell(g);
-    expect(`${back.dataset['row']}:${back.dataset['col']}`).to.equal(id);
+    expect(cellId(back)).to.equal(id);
     expect(inView(g, back)).to.equal(true);
   });
 

@@ -1,5 +1,6 @@
 // Browser smoke test for the toolchain: TypeScript is compiled by the dev server, mathjs's ES
 // module build (which imports CommonJS packages) loads in Chromium, and real IndexedDB works.
+// eslint-disable-next-line no-restricted-imports -- this smoke test checks that mathjs itself loads in Chromium
 import { compile } from 'mathjs';
 
 function assertEqual(actual: unknown, expected: unknown, what: string): void {
@@ -11,7 +12,7 @@ function assertEqual(actual: unknown, expected: unknown, what: string): void {
 function request<T>(req: IDBRequest<T>): Promise<T> {
   return new Promise((resolve, reject) => {
     req.onsuccess = () => resolve(req.result);
-    req.onerror = () => reject(req.error);
+    req.onerror = () => reject(req.error ?? new Error('IndexedDB request failed'));
   });
 }
 
@@ -33,7 +34,7 @@ describe('toolchain in the browser', () => {
       const tx = db.transaction('kv', 'readwrite');
       const committed = new Promise<void>((resolve, reject) => {
         tx.oncomplete = () => resolve();
-        tx.onabort = () => reject(tx.error);
+        tx.onabort = () => reject(tx.error ?? new Error('transaction aborted'));
       });
       tx.objectStore('kv').put({ value: 42 }, 'answer');
       await committed;

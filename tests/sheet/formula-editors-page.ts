@@ -8,6 +8,13 @@ import { editorsWorksheet, FIX_NOW } from './formula-editors-fixture.js';
 const params = new URLSearchParams(location.search);
 const host = document.getElementById('host')!;
 
+/** The part after the first '-' of an editor field's id ("condition-3" → "3"). */
+function idSuffix(el: HTMLElement): string {
+  const suffix = el.id.split('-')[1];
+  if (suffix === undefined) throw new Error(`field id "${el.id}" has no suffix`);
+  return suffix;
+}
+
 async function typeInto(root: ShadowRoot, selector: string, text: string): Promise<void> {
   const input = root.querySelector(selector) as HTMLInputElement;
   input.value = text;
@@ -29,7 +36,7 @@ async function main(): Promise<void> {
     last.value = 'Lactate below 2 by 6 h';
     last.dispatchEvent(new Event('input', { bubbles: true, composed: true }));
     await el.updateComplete;
-    const id = last.id.split('-')[1];
+    const id = idSuffix(last);
     await typeInto(root, `#condition-${id}`, 'first(lactate) > 2');
     await typeInto(root, `#target-${id}`, params.has('bad') ? 'lactate < 2 and' : 'lactate < 2');
     await typeInto(root, `#deadline-${id}`, '360');
@@ -44,7 +51,7 @@ async function main(): Promise<void> {
     (root.querySelector('#add') as HTMLButtonElement).click();
     await el.updateComplete;
     const keyInput = [...root.querySelectorAll('input[name="key"]')].pop() as HTMLInputElement;
-    const id = keyInput.id.split('-')[1];
+    const id = idSuffix(keyInput);
     await typeInto(root, `#key-${id}`, params.has('loop') ? 'a' : 'si');
     await typeInto(root, `#label-${id}`, params.has('loop') ? 'A' : 'Shock index (mine)');
     await typeInto(root, `#expression-${id}`, params.has('bad') ? 'hr / * sbp' : params.has('loop') ? 'b + 1' : 'hr / sbp');
@@ -52,7 +59,7 @@ async function main(): Promise<void> {
       (root.querySelector('#add') as HTMLButtonElement).click();
       await el.updateComplete;
       const k2 = [...root.querySelectorAll('input[name="key"]')].pop() as HTMLInputElement;
-      const id2 = k2.id.split('-')[1];
+      const id2 = idSuffix(k2);
       await typeInto(root, `#key-${id2}`, 'b');
       await typeInto(root, `#label-${id2}`, 'B');
       await typeInto(root, `#expression-${id2}`, 'a * 2');

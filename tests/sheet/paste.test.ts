@@ -207,9 +207,9 @@ describe('planPaste: on the time column', () => {
 describe('planPaste: whole-paste refusals', () => {
   it('refuses an empty block and one over the line limit', () => {
     const ws = fixture();
-    expect(planPaste('\t\n\n', at(ws, 0, 1))).toMatchObject({ ok: false, error: expect.stringMatching(/nothing to paste/) });
+    expect(planPaste('\t\n\n', at(ws, 0, 1))).toMatchObject({ ok: false, error: expect.stringMatching(/nothing to paste/) as unknown });
     const big = Array.from({ length: MAX_PASTE_LINES + 5 }, () => '70').join('\n');
-    expect(planPaste(big, at(ws, 0, 1))).toMatchObject({ ok: false, error: expect.stringMatching(/at most 2000/) });
+    expect(planPaste(big, at(ws, 0, 1))).toMatchObject({ ok: false, error: expect.stringMatching(/at most 2000/) as unknown });
   });
 });
 

@@ -158,7 +158,7 @@ describe('tm-grid: roles and names', () => {
     eq(si.getAttribute('aria-readonly'), 'true', 'aria-readonly on a calculated cell');
     // Shock index = HR / SBP = 124 / 82 = 1.51 (common practice, no source).
     eq(text(si), '1.51', 'shock index value');
-    const desc = $(h.grid, `#${si.getAttribute('aria-describedby')}`);
+    const desc = $(h.grid, `#${si.getAttribute('aria-describedby') ?? ''}`);
     ok(/HR \/ SBP/.test(text(desc)), 'description names the formula');
     ok(/calc/.test(text($(h.grid, '[role="columnheader"][aria-colindex="6"]'))), 'header says calc');
     eq(cell(h, 0, 'map').getAttribute('aria-readonly'), null, 'measured cells are not read-only');
@@ -301,7 +301,7 @@ describe('tm-grid: editing', () => {
     const input = focused(h.grid) as HTMLInputElement;
     eq(input.tagName, 'INPUT', 'editor still open and focused');
     eq(input.getAttribute('aria-invalid'), 'true', 'aria-invalid');
-    const message = $(h.grid, `#${input.getAttribute('aria-describedby')}`);
+    const message = $(h.grid, `#${input.getAttribute('aria-describedby') ?? ''}`);
     eq(message.getAttribute('role'), 'alert', 'message is an alert');
     // MAP accepted range in the catalog: 15–250 mmHg.
     ok(/outside the accepted range.*15–250 mmHg/.test(text(message)), `message says the range: ${text(message)}`);
@@ -512,7 +512,7 @@ describe('tm-grid: accessibility scan (axe-core)', () => {
     const result = await axe.run(target, { resultTypes: ['violations'] });
     return result.violations
       .filter((v) => v.impact === 'serious' || v.impact === 'critical')
-      .map((v) => `${v.id} (${v.impact}): ${v.help} — ${v.nodes.map((n) => JSON.stringify(n.target)).join(', ')}`);
+      .map((v) => `${v.id} (${String(v.impact)}): ${v.help} — ${v.nodes.map((n) => JSON.stringify(n.target)).join(', ')}`);
   }
 
   it('reaches into the shadow root: a planted unlabeled field inside the grid is reported', async () => {

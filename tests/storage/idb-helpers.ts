@@ -4,7 +4,7 @@
 export function req<T>(request: IDBRequest<T>): Promise<T> {
   return new Promise((resolve, reject) => {
     request.onsuccess = () => resolve(request.result);
-    request.onerror = () => reject(request.error);
+    request.onerror = () => reject(request.error ?? new Error('IndexedDB request failed'));
   });
 }
 
@@ -27,14 +27,14 @@ export function rawOpen(
     const request = version === undefined ? factory.open(name) : factory.open(name, version);
     request.onupgradeneeded = (event) => upgrade?.(request.result, request.transaction!, event.oldVersion);
     request.onsuccess = () => resolve(request.result);
-    request.onerror = () => reject(request.error);
+    request.onerror = () => reject(request.error ?? new Error('IndexedDB request failed'));
   });
 }
 
 /** Reads every value of a store. */
 export async function rawAll(db: IDBDatabase, store: string): Promise<unknown[]> {
   const tx = db.transaction(store, 'readonly');
-  const [values] = await Promise.all([req(tx.objectStore(store).getAll()), txDone(tx)]);
+  const [values] = await Promise.all([req<unknown[]>(tx.objectStore(store).getAll()), txDone(tx)]);
   return values;
 }
 

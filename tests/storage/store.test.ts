@@ -229,6 +229,7 @@ describe('commit', () => {
     const ctx = makeCtx();
     const ws = sampleWorksheet(ctx);
     await store.create(ws);
+    // eslint-disable-next-line @typescript-eslint/unbound-method -- called below with .apply on the real store
     const original = IDBObjectStore.prototype.add;
     vi.spyOn(IDBObjectStore.prototype, 'add').mockImplementation(function (this: IDBObjectStore, ...args) {
       const request = original.apply(this, args);

@@ -120,6 +120,7 @@ describe('store in real IndexedDB', () => {
     const name = freshName();
     const store = await open({ name });
     const seen: { mode: string; durability: string }[] = [];
+    // eslint-disable-next-line @typescript-eslint/unbound-method -- called below with .apply on the real database
     const original = IDBDatabase.prototype.transaction;
     IDBDatabase.prototype.transaction = function (this: IDBDatabase, ...args: Parameters<IDBDatabase['transaction']>) {
       const tx = original.apply(this, args);
