@@ -64,6 +64,20 @@ export interface SessionSnapshot {
 
 const UNDO_LIMIT = 200;
 
+/**
+ * How many times one edit is re-applied on top of another tab's newer version before the session
+ * gives up and asks the user to retry. Every conflict means the other tab saved something, so the
+ * notebook as a whole always moves on; the limit only bounds how long one tab waits while another
+ * keeps writing (found in tests/reliability/two-tabs.test.ts: with 4 attempts, two tabs writing at
+ * once made one of them give up).
+ */
+export const CONFLICT_ATTEMPTS = 30;
+
+/** Pause before re-applying after the n-th conflict in a row: lets the other tab's queued writes through. */
+function conflictPause(n: number): Promise<void> {
+  return new Promise((resolve) => setTimeout(resolve, Math.min(n, 10) * 10));
+}
+
 export class WorksheetSession {
   private saved: Worksheet;
   private view: Worksheet;
@@ -234,7 +248,8 @@ export class WorksheetSession {
   }
 
   private async writeNow(cmd: Command): Promise<boolean> {
-    for (let attempt = 0; attempt < 4; attempt++) {
+    for (let attempt = 0; attempt < CONFLICT_ATTEMPTS; attempt++) {
+      if (attempt > 1) await conflictPause(attempt - 1);
       let change: Change;
       try {
         change = this.apply(this.saved, cmd).change;

@@ -44,7 +44,7 @@ beforeAll(async () => {
 afterAll(async () => {
   await chrome?.close();
   await app?.close();
-});
+}, 60_000);
 
 async function openApp(): Promise<Page> {
   const page = await chrome.context().newPage();

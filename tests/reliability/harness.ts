@@ -73,6 +73,8 @@ export async function buildAndServe(): Promise<ServedApp> {
     close: () =>
       new Promise<void>((resolve) => {
         server.close(() => resolve());
+        // Browsers keep idle keep-alive connections open; close() alone would wait for them.
+        server.closeAllConnections();
         rmSync(dir, { recursive: true, force: true });
       }),
   };
@@ -88,7 +90,13 @@ export async function serveAgain(built: ServedApp): Promise<ServedApp> {
   const origin = `http://127.0.0.1:${port}`;
   const requests: string[] = [];
   server.on('request', (req) => requests.push(`${req.method} ${req.url}`));
-  return { url: `${origin}/`, origin, csp: built.csp, dir: built.dir, requests, close: () => new Promise<void>((r) => server.close(() => r())) };
+  return { url: `${origin}/`, origin, csp: built.csp, dir: built.dir, requests,
+    close: () =>
+      new Promise<void>((r) => {
+        server.close(() => r());
+        server.closeAllConnections();
+      }),
+  };
 }
 
 /** A Chromium process with an on-disk profile, which the test may kill and start again. */
