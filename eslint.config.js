@@ -56,9 +56,10 @@ const relativeImportWithoutJs = {
 };
 
 /** Page globals the DOM-free core must not touch (Node tests and the CLI share the core). */
-const pageGlobals = ['window', 'document', 'navigator', 'location', 'localStorage', 'sessionStorage', 'customElements'].map(
-  (name) => ({ name, message: 'The core has no DOM: pass what it needs in, or move this to a tm- element.' }),
-);
+const pageGlobals = ['window', 'document', 'navigator', 'location', 'localStorage', 'sessionStorage', 'customElements'].map((name) => ({
+  name,
+  message: 'The core has no DOM: pass what it needs in, or move this to a tm- element.',
+}));
 
 /**
  * A plugin's flat config by name (the plugins' types allow legacy and missing configs).
@@ -120,10 +121,7 @@ export default defineConfig(
   {
     files: TS,
     rules: {
-      'no-restricted-imports': [
-        'error',
-        { paths: [mathjsOutsideEngine], patterns: [unsafeDirectives, relativeImportWithoutJs] },
-      ],
+      'no-restricted-imports': ['error', { paths: [mathjsOutsideEngine], patterns: [unsafeDirectives, relativeImportWithoutJs] }],
     },
   },
   // The one module allowed to import mathjs.

@@ -8,9 +8,7 @@ import { findChrome } from './scripts/find-chrome.mjs';
 
 const executablePath = findChrome();
 if (!executablePath) {
-  throw new Error(
-    'No Chrome or Chromium found: install one (Debian/Ubuntu: sudo apt-get install chromium) or set CHROME_PATH.',
-  );
+  throw new Error('No Chrome or Chromium found: install one (Debian/Ubuntu: sudo apt-get install chromium) or set CHROME_PATH.');
 }
 
 /**
@@ -34,8 +32,7 @@ function countsReporter(outputFile) {
       for (const session of sessions) {
         if (session.testResults) walk(session.testResults);
         // A file that failed to load, timed out or threw outside a test has no failed test of its own.
-        const sessionFailedOutsideTests =
-          !session.passed && (session.errors?.length ?? 0) > 0;
+        const sessionFailedOutsideTests = !session.passed && (session.errors?.length ?? 0) > 0;
         if (sessionFailedOutsideTests) counts.fileErrors += 1;
       }
       writeFileSync(outputFile, JSON.stringify(counts));

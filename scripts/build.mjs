@@ -73,11 +73,25 @@ export async function build({ quiet = false, outDir = dist } = {}) {
 
   const html = (await readFile(`${root}index.html`, 'utf8'))
     .replace('<script type="module" src="/src/app/main.ts"></script>', '<script type="module" src="./assets/app.js"></script>')
-    .replace('<meta charset="utf-8" />', `<meta charset="utf-8" />\n    <meta http-equiv="Content-Security-Policy" content="${CSP}" />\n    <link rel="manifest" href="./manifest.webmanifest" />`);
+    .replace(
+      '<meta charset="utf-8" />',
+      `<meta charset="utf-8" />\n    <meta http-equiv="Content-Security-Policy" content="${CSP}" />\n    <link rel="manifest" href="./manifest.webmanifest" />`,
+    );
   await writeFile(`${outDir}/index.html`, html);
   await writeFile(
     `${outDir}/manifest.webmanifest`,
-    JSON.stringify({ name: 'Tidemark', short_name: 'Tidemark', start_url: './', display: 'standalone', background_color: '#f6f4ef', theme_color: '#1c2430' }, null, 2),
+    JSON.stringify(
+      {
+        name: 'Tidemark',
+        short_name: 'Tidemark',
+        start_url: './',
+        display: 'standalone',
+        background_color: '#f6f4ef',
+        theme_color: '#1c2430',
+      },
+      null,
+      2,
+    ),
   );
   const shell = ['./', './index.html', './assets/app.js', './manifest.webmanifest'];
   // Replace the quoted placeholders (the file's header comment names them too).
@@ -88,7 +102,8 @@ export async function build({ quiet = false, outDir = dist } = {}) {
 
   const gz = gzipSync(js, { level: 9 }).length;
   const stats = { bytes: js.length, gzipBytes: gz, hash, ms: Math.round(performance.now() - started), metafile: result.metafile };
-  if (!quiet) console.log(`Built dist/ in ${stats.ms} ms: assets/app.js ${(js.length / 1024).toFixed(0)} KB, ${(gz / 1024).toFixed(0)} KB gzipped.`);
+  if (!quiet)
+    console.log(`Built dist/ in ${stats.ms} ms: assets/app.js ${(js.length / 1024).toFixed(0)} KB, ${(gz / 1024).toFixed(0)} KB gzipped.`);
   return stats;
 }
 

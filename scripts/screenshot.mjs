@@ -15,7 +15,15 @@ if (!url || !out) {
 const browser = await chromium.launch({
   executablePath: findChrome() ?? undefined,
   headless: true,
-  args: ['--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'],
+  args: [
+    '--no-sandbox',
+    '--disable-gpu',
+    '--disable-dev-shm-usage',
+    '--disable-background-networking',
+    '--disable-component-update',
+    '--disable-sync',
+    '--no-first-run',
+  ],
 });
 const page = await browser.newPage({ viewport: { width: Number(w), height: Number(h) } });
 page.on('pageerror', (e) => console.error('page error:', e.message));
@@ -25,7 +33,10 @@ page.on('console', (m) => {
 await page.goto(url, { waitUntil: 'load', timeout: 180_000 });
 await page.waitForTimeout(wait);
 for (const a of process.argv.filter((x) => x.startsWith('--click='))) {
-  await page.getByRole('button', { name: a.slice(8) }).first().click();
+  await page
+    .getByRole('button', { name: a.slice(8) })
+    .first()
+    .click();
   await page.waitForTimeout(500);
 }
 if (process.argv.includes('--print')) await page.emulateMedia({ media: 'print' });
@@ -33,7 +44,9 @@ if (process.argv.includes('--print')) await page.emulateMedia({ media: 'print' }
 const clip = process.argv.find((a) => a.startsWith('--clip='));
 const [cy, ch] = clip ? clip.slice(7).split(':').map(Number) : [];
 await page.screenshot(
-  clip ? { path: out, fullPage: true, clip: { x: 0, y: cy ?? 0, width: Number(w), height: ch ?? Number(h) } } : { path: out, fullPage: true },
+  clip
+    ? { path: out, fullPage: true, clip: { x: 0, y: cy ?? 0, width: Number(w), height: ch ?? Number(h) } }
+    : { path: out, fullPage: true },
 );
 await browser.close();
 console.log(`saved ${out}`);

@@ -70,9 +70,7 @@ function ensureChrome() {
     console.error('Installing chromium failed: install Chrome or Chromium yourself, or set CHROME_PATH.');
     process.exit(1);
   }
-  console.error(
-    'No Chrome or Chromium found: install one (Debian/Ubuntu: sudo apt-get install chromium) or set CHROME_PATH.',
-  );
+  console.error('No Chrome or Chromium found: install one (Debian/Ubuntu: sudo apt-get install chromium) or set CHROME_PATH.');
   process.exit(1);
 }
 
@@ -124,12 +122,7 @@ try {
 
   if (runNode) {
     const report = join(workDir, 'vitest.json');
-    const status = run(binOf('vitest', 'vitest'), [
-      'run',
-      '--reporter=default',
-      '--reporter=json',
-      `--outputFile.json=${report}`,
-    ]);
+    const status = run(binOf('vitest', 'vitest'), ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${report}`]);
     const json = existsSync(report) ? /** @type {VitestReport | null} */ (readJson(report)) : null;
     if (json) {
       totals.passed += json.numPassedTests;

@@ -78,7 +78,8 @@ export function longWorksheet(options: LongWorksheetOptions): Worksheet {
     const row: Row = { id: `${wsId}-r${String(k).padStart(5, '0')}`, time, offset: 0, cells: longRowCells(k) };
     rows.push(row);
     log.push({ id: entryId(), at, kind: 'row-add', rowId: row.id, new: time });
-    for (const [key, cell] of Object.entries(row.cells)) log.push({ id: entryId(), at, kind: 'cell', rowId: row.id, key, old: null, new: cell });
+    for (const [key, cell] of Object.entries(row.cells))
+      log.push({ id: entryId(), at, kind: 'cell', rowId: row.id, key, old: null, new: cell });
   }
   const last = rows.length > 0 ? Date.parse(rows[rows.length - 1]!.time) + MINUTE : t0;
   return {

@@ -71,10 +71,21 @@ interface BenchWindow {
 
 /** The parts of the app's elements the driver reads. */
 type AppRoot = Element & { shadowRoot: ShadowRoot };
-type GridEl = HTMLElement & { updateComplete: Promise<unknown>; worksheet: { rows: { cells: Record<string, { value: unknown } | undefined> }[] } };
+type GridEl = HTMLElement & {
+  updateComplete: Promise<unknown>;
+  worksheet: { rows: { cells: Record<string, { value: unknown } | undefined> }[] };
+};
 
 const SIZES = [50, 500, 5000] as const;
-const CHROME_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'];
+const CHROME_ARGS = [
+  '--no-sandbox',
+  '--disable-gpu',
+  '--disable-dev-shm-usage',
+  '--disable-background-networking',
+  '--disable-component-update',
+  '--disable-sync',
+  '--no-first-run',
+];
 
 /** Targets of issue 7. */
 const TARGETS = {
@@ -197,7 +208,12 @@ function appReady(): boolean {
 }
 
 async function launch(executablePath: string, userDir: string): Promise<BrowserContext> {
-  return chromium.launchPersistentContext(userDir, { executablePath, headless: true, args: CHROME_ARGS, viewport: { width: 1440, height: 900 } });
+  return chromium.launchPersistentContext(userDir, {
+    executablePath,
+    headless: true,
+    args: CHROME_ARGS,
+    viewport: { width: 1440, height: 900 },
+  });
 }
 
 async function openHelper(page: Page, base: string): Promise<void> {
@@ -258,7 +274,11 @@ async function measureEdits(page: Page, plan: readonly PlannedEdit[], warmup: nu
     if (!(await focusCell(page, edit.rowIndex, edit.key))) throw new Error(`could not focus row ${edit.rowIndex} ${edit.key}`);
     await page.keyboard.type(edit.text);
     await page.waitForFunction(
-      (text) => ((document.querySelector('tm-app') as AppRoot).shadowRoot.querySelector('tm-grid')?.shadowRoot?.activeElement as HTMLInputElement | null)?.value === text,
+      (text) =>
+        (
+          (document.querySelector('tm-app') as AppRoot).shadowRoot.querySelector('tm-grid')?.shadowRoot
+            ?.activeElement as HTMLInputElement | null
+        )?.value === text,
       edit.text,
       { timeout: 30_000 },
     );
@@ -275,7 +295,9 @@ async function measureEdits(page: Page, plan: readonly PlannedEdit[], warmup: nu
       { timeout: 60_000 },
     );
     const stored = await page.evaluate(
-      ({ rowIndex, key }) => ((document.querySelector('tm-app') as AppRoot).shadowRoot.querySelector('tm-grid') as GridEl).worksheet.rows[rowIndex]?.cells[key]?.value,
+      ({ rowIndex, key }) =>
+        ((document.querySelector('tm-app') as AppRoot).shadowRoot.querySelector('tm-grid') as GridEl).worksheet.rows[rowIndex]?.cells[key]
+          ?.value,
       { rowIndex: edit.rowIndex, key: edit.key },
     );
     if (stored !== edit.cell.value) wrong += 1;
@@ -293,7 +315,14 @@ interface BrowserSize {
   commit: Stats;
 }
 
-async function editToPaint(executablePath: string, base: string, rows: number, plan: readonly PlannedEdit[], warmup: number, commits: number): Promise<BrowserSize> {
+async function editToPaint(
+  executablePath: string,
+  base: string,
+  rows: number,
+  plan: readonly PlannedEdit[],
+  warmup: number,
+  commits: number,
+): Promise<BrowserSize> {
   const userDir = await mkdtemp(join(tmpdir(), 'tidemark-bench-'));
   const context = await launch(executablePath, userDir);
   try {
@@ -373,15 +402,22 @@ export async function runBench(tools: BenchTools): Promise<void> {
     const built = await tools.build({ quiet: true, outDir: site });
     const sw = await readFile(join(site, 'sw.js'));
     const swGzipBytes = gzipSync(sw, { level: 9 }).length;
-    const shipped = { appJsBytes: built.bytes, appJsGzipBytes: built.gzipBytes, swGzipBytes, totalGzipBytes: built.gzipBytes + swGzipBytes };
+    const shipped = {
+      appJsBytes: built.bytes,
+      appJsGzipBytes: built.gzipBytes,
+      swGzipBytes,
+      totalGzipBytes: built.gzipBytes + swGzipBytes,
+    };
 
     say('Core (Node): recompute per edit, incremental vs full...');
     const coreResults: CoreSizeResult[] = coreBench({
       sizes: SIZES,
       edits: (rows) => (quick ? 6 : rows >= 5000 ? 20 : 40),
-      onSize: (r) => say(`  ${r.rows} rows: incremental p50 ${ms(percentile(r.incrementalMs, 50))} ms, full p50 ${ms(percentile(r.naiveMs, 50))} ms`),
+      onSize: (r) =>
+        say(`  ${r.rows} rows: incremental p50 ${ms(percentile(r.incrementalMs, 50))} ms, full p50 ${ms(percentile(r.naiveMs, 50))} ms`),
     });
-    if (coreResults.some((r) => !r.agree)) throw new Error('the incremental and full recomputes disagree: fix that before trusting any figure');
+    if (coreResults.some((r) => !r.agree))
+      throw new Error('the incremental and full recomputes disagree: fix that before trusting any figure');
 
     // The site: the production build plus the helper page, served with the app's CSP.
     await mkdir(join(site, 'bench'), { recursive: true });
@@ -403,7 +439,9 @@ export async function runBench(tools: BenchTools): Promise<void> {
       const count = quick ? 5 : rows >= 5000 ? 25 : 30;
       say(`Browser: ${rows} rows, ${2 * count} edits to paint...`);
       const r = await editToPaint(executablePath, base, rows, editPlan(rows, 2 * (count + warmup)), warmup, quick ? 15 : 60);
-      say(`  edit to paint p50 ${ms(r.edit.p50)} / p95 ${ms(r.edit.p95)} ms (trends closed: ${ms(r.editTrendsClosed.p50)} / ${ms(r.editTrendsClosed.p95)} ms); IndexedDB commit p50 ${ms(r.commit.p50)} / p95 ${ms(r.commit.p95)} ms`);
+      say(
+        `  edit to paint p50 ${ms(r.edit.p50)} / p95 ${ms(r.edit.p95)} ms (trends closed: ${ms(r.editTrendsClosed.p50)} / ${ms(r.editTrendsClosed.p95)} ms); IndexedDB commit p50 ${ms(r.commit.p50)} / p95 ${ms(r.commit.p95)} ms`,
+      );
       browser.push(r);
     }
     say('Browser: cold load of a notebook of 200 worksheets of 100 rows...');
@@ -423,11 +461,41 @@ export async function runBench(tools: BenchTools): Promise<void> {
     const commitP95 = Math.max(...browser.map((x) => x.commit.p95));
     const kb = shipped.totalGzipBytes / 1024;
     const targets = [
-      { what: 'Edit to paint p95 at 500 rows', value: b(500).edit.p95, unit: 'ms', target: `≤ ${TARGETS.editP95At500}`, met: b(500).edit.p95 <= TARGETS.editP95At500 },
-      { what: 'Edit to paint p95 at 5,000 rows', value: b(5000).edit.p95, unit: 'ms', target: `≤ ${TARGETS.editP95At5000}`, met: b(5000).edit.p95 <= TARGETS.editP95At5000 },
-      { what: 'Core speed-up over full recompute at 5,000 rows', value: c(5000).speedup, unit: '×', target: `≥ ${TARGETS.coreSpeedupAt5000}`, met: c(5000).speedup >= TARGETS.coreSpeedupAt5000 },
-      { what: 'IndexedDB commit p95 (worst size)', value: commitP95, unit: 'ms', target: `≤ ${TARGETS.commitP95}`, met: commitP95 <= TARGETS.commitP95 },
-      { what: 'Cold load, 200 × 100 rows (p95 of runs)', value: cold.load.p95, unit: 'ms', target: `≤ ${TARGETS.coldLoadMs}`, met: cold.load.p95 <= TARGETS.coldLoadMs },
+      {
+        what: 'Edit to paint p95 at 500 rows',
+        value: b(500).edit.p95,
+        unit: 'ms',
+        target: `≤ ${TARGETS.editP95At500}`,
+        met: b(500).edit.p95 <= TARGETS.editP95At500,
+      },
+      {
+        what: 'Edit to paint p95 at 5,000 rows',
+        value: b(5000).edit.p95,
+        unit: 'ms',
+        target: `≤ ${TARGETS.editP95At5000}`,
+        met: b(5000).edit.p95 <= TARGETS.editP95At5000,
+      },
+      {
+        what: 'Core speed-up over full recompute at 5,000 rows',
+        value: c(5000).speedup,
+        unit: '×',
+        target: `≥ ${TARGETS.coreSpeedupAt5000}`,
+        met: c(5000).speedup >= TARGETS.coreSpeedupAt5000,
+      },
+      {
+        what: 'IndexedDB commit p95 (worst size)',
+        value: commitP95,
+        unit: 'ms',
+        target: `≤ ${TARGETS.commitP95}`,
+        met: commitP95 <= TARGETS.commitP95,
+      },
+      {
+        what: 'Cold load, 200 × 100 rows (p95 of runs)',
+        value: cold.load.p95,
+        unit: 'ms',
+        target: `≤ ${TARGETS.coldLoadMs}`,
+        met: cold.load.p95 <= TARGETS.coldLoadMs,
+      },
       { what: 'JavaScript shipped, gzipped', value: kb, unit: 'KB', target: `≤ ${TARGETS.gzipKb}`, met: kb <= TARGETS.gzipKb },
     ];
 
@@ -440,7 +508,9 @@ export async function runBench(tools: BenchTools): Promise<void> {
     await writeFile(join(dir, 'latest.json'), json);
 
     say('');
-    say(`Tidemark bench ${result.date.slice(0, 16)}Z — ${info.cores} cores (${info.cpu}), ${info.memoryGb} GB, Node ${info.node}, Chromium ${info.chromium}, load average ${info.loadAverageAtStart[0]} at start, ${info.loadAverageAtEnd[0]} at end`);
+    say(
+      `Tidemark bench ${result.date.slice(0, 16)}Z — ${info.cores} cores (${info.cpu}), ${info.memoryGb} GB, Node ${info.node}, Chromium ${info.chromium}, load average ${info.loadAverageAtStart[0]} at start, ${info.loadAverageAtEnd[0]} at end`,
+    );
     const cell = (text: string) => text.padStart(14);
     say(`${'Measure'.padEnd(46)}${cell('50 rows')}${cell('500 rows')}${cell('5,000 rows')}`);
     const row = (label: string, f: (n: number) => string) => say(`${label.padEnd(46)}${SIZES.map((n) => cell(f(n))).join('')}`);
@@ -450,10 +520,15 @@ export async function runBench(tools: BenchTools): Promise<void> {
     row('Naive full recompute, p50 / p95 (ms)', (n) => `${ms(c(n).naive.p50)} / ${ms(c(n).naive.p95)}`);
     row('Speed-up, naive ÷ core (medians)', (n) => `${c(n).speedup.toFixed(1)}×`);
     row('IndexedDB commit, p50 / p95 (ms)', (n) => `${ms(b(n).commit.p50)} / ${ms(b(n).commit.p95)}`);
-    say(`${'Cold load, 200 worksheets × 100 rows (ms)'.padEnd(46)}p50 ${ms(cold.load.p50)}, p95 ${ms(cold.load.p95)} over ${cold.load.n} new browser processes${cold.fromServiceWorker ? ', app from the service worker' : ''}`);
+    say(
+      `${'Cold load, 200 worksheets × 100 rows (ms)'.padEnd(46)}p50 ${ms(cold.load.p50)}, p95 ${ms(cold.load.p95)} over ${cold.load.n} new browser processes${cold.fromServiceWorker ? ', app from the service worker' : ''}`,
+    );
     say(`${'JavaScript shipped, gzipped'.padEnd(46)}${kb.toFixed(1)} KB (app.js ${(shipped.appJsBytes / 1024).toFixed(0)} KB minified)`);
     say('');
-    for (const t of targets) say(`${t.met ? 'MET    ' : 'NOT MET'}  ${t.what}: ${t.unit === '×' ? t.value.toFixed(1) : ms(t.value)} ${t.unit} (target ${t.target} ${t.unit})`);
+    for (const t of targets)
+      say(
+        `${t.met ? 'MET    ' : 'NOT MET'}  ${t.what}: ${t.unit === '×' ? t.value.toFixed(1) : ms(t.value)} ${t.unit} (target ${t.target} ${t.unit})`,
+      );
     say(`\nWritten: ${out}`);
   } finally {
     server?.server.close();

@@ -26,7 +26,20 @@ function cell(v: Spec): Cell {
 
 /** [minutes after time zero, cells]. Volumes are amounts since the previous row (design.md). */
 const COURSE: readonly [number, Record<string, Spec>][] = [
-  [0, { sbp: 92, dbp: 50, hr: 118, rr: 26, temp: 38.9, spo2: 93, crt: 4.5, infection_suspected: { mark: 'fever and productive cough' }, note: 'DEMO: invented, fictional patient; not a real person. Triage.' }],
+  [
+    0,
+    {
+      sbp: 92,
+      dbp: 50,
+      hr: 118,
+      rr: 26,
+      temp: 38.9,
+      spo2: 93,
+      crt: 4.5,
+      infection_suspected: { mark: 'fever and productive cough' },
+      note: 'DEMO: invented, fictional patient; not a real person. Triage.',
+    },
+  ],
   [12, { lactate: 4.6, wbc: 15.2, creatinine: 1.4, platelets: 180, hr: 120 }],
   [18, { sbp: 88, dbp: 52, map: 63, hr: 122, cultures_drawn: { mark: '2 sets' } }],
   [30, { sbp: 86, dbp: 50, map: 62, hr: 120, fluid_ml: 500, note: 'Balanced crystalloid bolus running. Urinary catheter placed.' }],

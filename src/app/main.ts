@@ -15,7 +15,12 @@ import './tm-lock.js';
 const SEEDED = 'demoSeeded';
 
 /** Shows the lock screen over the app until the right passphrase is given. */
-function lockScreen(app: TmApp, record: LockRecord, onUnlock: (e: HTMLElementEventMap['tm-unlocked']) => void, unsavedKept = false): Promise<void> {
+function lockScreen(
+  app: TmApp,
+  record: LockRecord,
+  onUnlock: (e: HTMLElementEventMap['tm-unlocked']) => void,
+  unsavedKept = false,
+): Promise<void> {
   return new Promise((resolve) => {
     const screen = document.createElement('tm-lock');
     screen.mode = 'unlock';
@@ -84,7 +89,6 @@ function wireLock(app: TmApp, store: Store, initial: LockRecord | undefined): vo
   });
 }
 
-
 async function start(): Promise<void> {
   const app = document.createElement('tm-app');
   app.clock = systemClock;
@@ -125,7 +129,11 @@ async function start(): Promise<void> {
  */
 function registerServiceWorker(): void {
   if (!('serviceWorker' in navigator) || !new URL(import.meta.url).pathname.endsWith('/assets/app.js')) return;
-  const tt = (globalThis as { trustedTypes?: { createPolicy(n: string, p: { createScriptURL(u: string): string }): { createScriptURL(u: string): string } } }).trustedTypes;
+  const tt = (
+    globalThis as {
+      trustedTypes?: { createPolicy(n: string, p: { createScriptURL(u: string): string }): { createScriptURL(u: string): string } };
+    }
+  ).trustedTypes;
   const policy = tt?.createPolicy('tidemark-sw', {
     createScriptURL: (u) => {
       if (u !== './sw.js') throw new TypeError(`Refused script URL ${u}`);

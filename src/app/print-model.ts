@@ -27,7 +27,8 @@ export function printColumns(ws: Worksheet, derived: readonly DerivedRow[]): Pri
     });
   const present = new Set(derived.flatMap((r) => Object.keys(r.values)));
   for (const d of [...DERIVED_DEFS, ...SCORE_DEFS]) {
-    if (present.has(d.key) && !cols.some((c) => c.key === d.key)) cols.push({ key: d.key, header: d.short, unit: d.unitLabel, derived: true });
+    if (present.has(d.key) && !cols.some((c) => c.key === d.key))
+      cols.push({ key: d.key, header: d.short, unit: d.unitLabel, derived: true });
   }
   for (const c of ws.derivedColumns) if (present.has(c.key)) cols.push({ key: c.key, header: c.label, unit: c.unit ?? '', derived: true });
   const groups: PrintColumn[][] = [];

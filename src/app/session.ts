@@ -32,7 +32,6 @@ import {
 /** The part of the store a session needs. */
 export type SessionStore = Pick<Store, 'commit'>;
 
-
 /** A command the user can undo: applying it gives the inverse command. */
 type Command =
   | { type: 'cells'; edits: CellEdit[] }
@@ -47,9 +46,7 @@ type Command =
   | { type: 'batch'; commands: Command[] };
 
 export type SaveState =
-  | { kind: 'saved' }
-  | { kind: 'saving' }
-  | { kind: 'failed'; reason: 'quota' | 'failed' | 'closed' | 'missing'; message: string };
+  { kind: 'saved' } | { kind: 'saving' } | { kind: 'failed'; reason: 'quota' | 'failed' | 'closed' | 'missing'; message: string };
 
 export interface SessionSnapshot {
   worksheet: Worksheet;
@@ -367,7 +364,13 @@ export class WorksheetSession {
     const visible = ws.columns.filter((k) => !removed.has(k));
     for (const k of keys) if (!visible.includes(k)) visible.push(k);
     return this.run(
-      { type: 'batch', commands: [{ type: 'derived-columns', columns }, { type: 'columns', columns: visible }] },
+      {
+        type: 'batch',
+        commands: [
+          { type: 'derived-columns', columns },
+          { type: 'columns', columns: visible },
+        ],
+      },
       'do',
     );
   }

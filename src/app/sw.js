@@ -8,7 +8,12 @@ const SHELL = /** @type {string[]} */ (/** @type {unknown} */ ('__SHELL__'));
 const sw = /** @type {ServiceWorkerGlobalScope} */ (/** @type {unknown} */ (self));
 
 sw.addEventListener('install', (event) => {
-  event.waitUntil(caches.open(CACHE).then((c) => c.addAll(SHELL)).then(() => sw.skipWaiting()));
+  event.waitUntil(
+    caches
+      .open(CACHE)
+      .then((c) => c.addAll(SHELL))
+      .then(() => sw.skipWaiting()),
+  );
 });
 
 sw.addEventListener('activate', (event) => {
@@ -30,9 +35,7 @@ sw.addEventListener('fetch', (event) => {
         hit ??
         fetch(event.request).catch(() =>
           // Offline: a page load gets the cached shell; with no shell cached, a network error.
-          event.request.mode === 'navigate'
-            ? caches.match('./index.html').then((page) => page ?? Response.error())
-            : Response.error(),
+          event.request.mode === 'navigate' ? caches.match('./index.html').then((page) => page ?? Response.error()) : Response.error(),
         ),
     ),
   );

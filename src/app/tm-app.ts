@@ -53,7 +53,6 @@ const BASIS_WORDS: Record<string, string> = {
   other: 'other',
 };
 
-
 type Panel = 'none' | 'facts' | 'exports' | 'columns' | 'own-goals';
 
 @customElement('tm-app')
@@ -339,8 +338,7 @@ export class TmApp extends LitElement {
       this.unitMap = unitMapOf(units.data);
     }
     const last = this.store ? await this.store.getMeta('lastOpen').catch(() => undefined) : undefined;
-    const first =
-      this.listing.summaries.find((s) => s.id === last && !s.archived) ?? this.listing.summaries.find((s) => !s.archived);
+    const first = this.listing.summaries.find((s) => s.id === last && !s.archived) ?? this.listing.summaries.find((s) => !s.archived);
     if (first) await this.open(first.id);
     this.unwatch = this.store?.onExternalChange((n) => void this.onExternal(n.id));
     this.tick();
@@ -509,12 +507,14 @@ export class TmApp extends LitElement {
           ${weight}${ws.heightCm !== undefined ? ` · ${ws.heightCm} cm` : ''} · times in UTC${formatOffset(ws.displayOffset)}
         </div>
       </div>
-      ${tz
-        ? html`<div class="t0" role="timer" aria-live="off" aria-label="Time since time zero">
+      ${
+        tz
+          ? html`<div class="t0" role="timer" aria-live="off" aria-label="Time since time zero">
             <span class="elapsed">${formatDuration(elapsed)} since time zero</span>
             <span class="basis">time zero ${formatClock(tz.time, ws.displayOffset)}, ${BASIS_WORDS[tz.basis]}${tz.reason ? ` — ${tz.reason}` : ''}</span>
           </div>`
-        : html`<div class="t0 unset"><span class="elapsed">Time zero not set</span><span class="basis">Set it in the facts.</span></div>`}
+          : html`<div class="t0 unset"><span class="elapsed">Time zero not set</span><span class="basis">Set it in the facts.</span></div>`
+      }
       <div class="tools">
         <button @click=${() => (this.panel = this.panel === 'facts' ? 'none' : 'facts')} aria-expanded=${this.panel === 'facts'}>
           Facts &amp; time zero
@@ -634,9 +634,11 @@ export class TmApp extends LitElement {
   override render() {
     const ws = this.snap?.worksheet;
     return html`
-      ${ws && this.printing
-        ? html`<tm-print class="print-only" .worksheet=${ws} .derived=${this.derivation?.rows ?? []} .goals=${this.goals} .now=${this.now}></tm-print>`
-        : nothing}
+      ${
+        ws && this.printing
+          ? html`<tm-print class="print-only" .worksheet=${ws} .derived=${this.derivation?.rows ?? []} .goals=${this.goals} .now=${this.now}></tm-print>`
+          : nothing
+      }
       <header class="top">
         <div class="brand">Tidemark<small>resuscitation worksheet</small></div>
         <p class="caution" role="note">${CAUTION}</p>
@@ -644,9 +646,10 @@ export class TmApp extends LitElement {
       </header>
       ${this.banners()}
       <div class="layout ${this.railHidden ? 'rail-hidden' : ''}">
-        ${this.railHidden
-          ? nothing
-          : html`<aside class="rail">
+        ${
+          this.railHidden
+            ? nothing
+            : html`<aside class="rail">
               <tm-notebook .entries=${this.entries()} .currentId=${ws?.id} @tm-notebook=${(e: NotebookEvent) => void this.onNotebook(e)}></tm-notebook>
               <tm-units .prefs=${this.unitPrefs} @tm-units=${(e: UnitsEvent) => void this.setUnits(e.prefs)}></tm-units>
               <slot name="rail-end"></slot>
@@ -654,12 +657,15 @@ export class TmApp extends LitElement {
                 Keys: <kbd>Alt</kbd>+<kbd>S</kbd> worksheet, <kbd>Alt</kbd>+<kbd>G</kbd> goals, <kbd>Alt</kbd>+<kbd>W</kbd> worksheets,
                 <kbd>Alt</kbd>+<kbd>F</kbd> facts, <kbd>Alt</kbd>+<kbd>E</kbd> export, <kbd>Alt</kbd>+<kbd>N</kbd> new row.
               </p>
-            </aside>`}
+            </aside>`
+        }
         <main>
-          ${ws
-            ? html`${this.header(ws)}
-                ${this.panel === 'facts'
-                  ? html`<div class="drawer">
+          ${
+            ws
+              ? html`${this.header(ws)}
+                ${
+                  this.panel === 'facts'
+                    ? html`<div class="drawer">
                       <tm-facts
                         .worksheet=${ws}
                         .now=${this.now}
@@ -675,9 +681,11 @@ export class TmApp extends LitElement {
                         @tm-highlight=${(e: HighlightEvent) => (this.highlight = new Set(e.rowIds))}
                       ></tm-time-zero-suggestion>
                     </div>`
-                  : nothing}
-                ${this.panel === 'columns'
-                  ? html`<div class="drawer">
+                    : nothing
+                }
+                ${
+                  this.panel === 'columns'
+                    ? html`<div class="drawer">
                       <tm-derived-columns
                         .worksheet=${ws}
                         .now=${this.now}
@@ -685,9 +693,11 @@ export class TmApp extends LitElement {
                         @tm-close=${() => (this.panel = 'none')}
                       ></tm-derived-columns>
                     </div>`
-                  : nothing}
-                ${this.panel === 'own-goals'
-                  ? html`<div class="drawer">
+                    : nothing
+                }
+                ${
+                  this.panel === 'own-goals'
+                    ? html`<div class="drawer">
                       <tm-custom-goals
                         .worksheet=${ws}
                         .now=${this.now}
@@ -695,9 +705,11 @@ export class TmApp extends LitElement {
                         @tm-close=${() => (this.panel = 'none')}
                       ></tm-custom-goals>
                     </div>`
-                  : nothing}
-                ${this.panel === 'exports'
-                  ? html`<div class="drawer">
+                    : nothing
+                }
+                ${
+                  this.panel === 'exports'
+                    ? html`<div class="drawer">
                       <tm-exports
                         .worksheet=${ws}
                         .goals=${this.goals}
@@ -707,7 +719,8 @@ export class TmApp extends LitElement {
                         @tm-imported=${() => void this.refreshListing()}
                       ></tm-exports>
                     </div>`
-                  : nothing}
+                    : nothing
+                }
                 <tm-grid
                   .worksheet=${ws}
                   .derived=${this.derivation?.rows ?? []}
@@ -725,8 +738,9 @@ export class TmApp extends LitElement {
                   @tm-redo=${() => void this.session?.redo()}
                   @focusin=${(e: FocusEvent) => this.onGridFocus(e)}
                 ></tm-grid>
-                ${this.showTrends
-                  ? html`<tm-trends
+                ${
+                  this.showTrends
+                    ? html`<tm-trends
                       class="trends"
                       .worksheet=${ws}
                       .derived=${this.derivation?.rows ?? []}
@@ -736,14 +750,17 @@ export class TmApp extends LitElement {
                       @tm-point=${(e: CustomEvent<{ rowId: string | null }>) =>
                         (this.highlight = e.detail.rowId ? new Set([e.detail.rowId]) : new Set())}
                     ></tm-trends>`
-                  : nothing}`
-            : html`<div class="empty">
+                    : nothing
+                }`
+              : html`<div class="empty">
                 <p><strong>Tidemark keeps a timed worksheet of a sepsis resuscitation and shows which bundle goals are still open.</strong></p>
                 <p>Open a worksheet from the list, or start a new one with a bed or case code.</p>
-              </div>`}
+              </div>`
+          }
         </main>
-        ${ws
-          ? html`<aside class="goals">
+        ${
+          ws
+            ? html`<aside class="goals">
               <tm-goal-panel
                 .goals=${this.goals}
                 .now=${this.now}
@@ -755,7 +772,8 @@ export class TmApp extends LitElement {
                 @tm-goal-sets=${(e: GoalSetsEvent) => void this.session?.setFacts({ goalSets: e.setIds })}
               ></tm-goal-panel>
             </aside>`
-          : nothing}
+            : nothing
+        }
       </div>
     `;
   }

@@ -196,7 +196,8 @@ export class TmExports extends LitElement {
       this.status = 'This file is not a Tidemark backup; nothing was imported.';
     } else if (out.reason === 'needs-choice') {
       this.plan = out.plan;
-      for (const item of out.plan.items) if (item.status === 'clash' && !this.choices.has(item.id)) this.choices.set(item.id, 'import-as-new');
+      for (const item of out.plan.items)
+        if (item.status === 'clash' && !this.choices.has(item.id)) this.choices.set(item.id, 'import-as-new');
       this.status = 'Some worksheets in the file are already in the notebook. Choose for each, then import.';
     } else {
       this.status = `Nothing was imported: ${out.result.message}`;
@@ -234,8 +235,9 @@ export class TmExports extends LitElement {
           <label class="hint">A Tidemark JSON backup. Nothing is replaced unless you choose it.
             <input type="file" accept="application/json,.json" @change=${(e: Event) => void this.pickFile(e)} />
           </label>
-          ${clashes.length
-            ? html`<ul>
+          ${
+            clashes.length
+              ? html`<ul>
                   ${clashes.map(
                     (c) => html`<li>
                       “${c.label}” is already here${c.existing?.label ? ` as “${c.existing.label}”` : ''}.
@@ -248,12 +250,15 @@ export class TmExports extends LitElement {
                   )}
                 </ul>
                 <button class="primary" @click=${() => void this.runImport()}>Import with these choices</button>`
-            : nothing}
-          ${this.importProblems.length
-            ? html`<ul class="error" role="alert">
+              : nothing
+          }
+          ${
+            this.importProblems.length
+              ? html`<ul class="error" role="alert">
                 ${this.importProblems.slice(0, 10).map((p) => html`<li>${p}</li>`)}
               </ul>`
-            : nothing}
+              : nothing
+          }
           <p class="status" role="status">${this.status}</p>
           <button @click=${() => this.dispatchEvent(new Event('tm-close', { bubbles: true, composed: true }))}>Close</button>
         </div>

@@ -138,7 +138,8 @@ export class TmFacts extends LitElement {
       this.errors = r.errors;
       this.warnings = {};
       const first = Object.keys(r.errors)[0];
-      if (first !== undefined) void this.updateComplete.then(() => this.renderRoot.querySelector<HTMLElement>(`[name="${first}"]`)?.focus());
+      if (first !== undefined)
+        void this.updateComplete.then(() => this.renderRoot.querySelector<HTMLElement>(`[name="${first}"]`)?.focus());
       return;
     }
     this.errors = {};

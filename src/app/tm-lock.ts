@@ -227,9 +227,11 @@ export class TmLock extends LitElement {
     return html`<form class="card" @submit=${(e: Event) => void this.tryUnlock(e)} aria-labelledby="lock-title">
       <h1 id="lock-title">This notebook is locked</h1>
       <p>Its worksheets are stored encrypted on this device. Enter the notebook passphrase to open it.</p>
-      ${this.unsavedKept
-        ? html`<p role="note"><strong>Entries not yet saved are kept in this tab</strong> and are saved when you unlock.</p>`
-        : nothing}
+      ${
+        this.unsavedKept
+          ? html`<p role="note"><strong>Entries not yet saved are kept in this tab</strong> and are saved when you unlock.</p>`
+          : nothing
+      }
       <label>Passphrase <input id="pass" type="password" autocomplete="current-password" required autofocus /></label>
       ${this.status()}
       <div class="buttons"><button class="primary" type="submit" ?disabled=${!!this.busy}>Unlock</button></div>
@@ -270,8 +272,9 @@ export class TmLock extends LitElement {
         <button class="primary" @click=${() => this.dispatchEvent(new Event('tm-lock-now', { bubbles: true, composed: true }))}>Lock now</button>
       </div>
       ${this.idleSelect('idle', r.idleMinutes, (e) => void this.changeIdle(e))}
-      ${this.confirmOff
-        ? html`<form @submit=${(e: Event) => void this.switchOff(e)}>
+      ${
+        this.confirmOff
+          ? html`<form @submit=${(e: Event) => void this.switchOff(e)}>
             <label>Passphrase, to switch the lock off <input id="off-pass" type="password" autocomplete="current-password" /></label>
             ${this.status()}
             <div class="buttons">
@@ -279,7 +282,8 @@ export class TmLock extends LitElement {
               <button type="button" @click=${() => (this.confirmOff = false)}>Keep it on</button>
             </div>
           </form>`
-        : html`<div class="buttons"><button @click=${() => (this.confirmOff = true)}>Switch the lock off…</button></div>`}
+          : html`<div class="buttons"><button @click=${() => (this.confirmOff = true)}>Switch the lock off…</button></div>`
+      }
       ${this.note ? html`<p role="status">${this.note}</p>` : nothing}
     </fieldset>`;
   }

@@ -148,31 +148,38 @@ export class TmNotebook extends LitElement {
   private item(entry: NotebookEntry) {
     const current = entry.id === this.currentId;
     return html`<li class=${current ? 'current' : ''}>
-      ${this.renaming === entry.id
-        ? html`<form class="confirm" @submit=${(e: Event) => this.rename(e, entry.id)}>
+      ${
+        this.renaming === entry.id
+          ? html`<form class="confirm" @submit=${(e: Event) => this.rename(e, entry.id)}>
             <label>New code <input name="label" .value=${entry.label} maxlength="60" /></label>
             <span><button class="primary" type="submit">Rename</button>
               <button type="button" @click=${() => (this.renaming = undefined)}>Cancel</button></span>
           </form>`
-        : html`<button class="open" aria-current=${current ? 'page' : 'false'} @click=${() => this.act({ type: 'open', id: entry.id })}>
+          : html`<button class="open" aria-current=${current ? 'page' : 'false'} @click=${() => this.act({ type: 'open', id: entry.id })}>
             <strong>${entry.label}</strong>
             <span class="meta">${entry.rows} rows · changed ${formatDateTime(entry.updatedAt, 0)} UTC${entry.archived ? ' · archived' : ''}</span>
-          </button>`}
-      ${this.confirmDelete === entry.id
-        ? html`<div class="confirm" role="alertdialog" aria-label="Confirm delete">
+          </button>`
+      }
+      ${
+        this.confirmDelete === entry.id
+          ? html`<div class="confirm" role="alertdialog" aria-label="Confirm delete">
             <span>Delete “${entry.label}” and its whole edit log? This cannot be undone.</span>
             <span
-              ><button class="danger" @click=${() => { this.confirmDelete = undefined; this.act({ type: 'delete', id: entry.id }); }}>Delete</button>
+              ><button class="danger" @click=${() => {
+                this.confirmDelete = undefined;
+                this.act({ type: 'delete', id: entry.id });
+              }}>Delete</button>
               <button @click=${() => (this.confirmDelete = undefined)}>Keep it</button></span
             >
           </div>`
-        : html`<div class="tools">
+          : html`<div class="tools">
             <button @click=${() => (this.renaming = entry.id)} aria-label="Rename ${entry.label}">Rename</button>
             <button @click=${() => this.act({ type: 'archive', id: entry.id, archived: !entry.archived })} aria-label="${entry.archived ? 'Restore' : 'Archive'} ${entry.label}">
               ${entry.archived ? 'Restore' : 'Archive'}
             </button>
             <button class="danger" @click=${() => (this.confirmDelete = entry.id)} aria-label="Delete ${entry.label}">Delete</button>
-          </div>`}
+          </div>`
+      }
     </li>`;
   }
 
@@ -190,14 +197,16 @@ export class TmNotebook extends LitElement {
       <ul>
         ${active.map((e) => this.item(e))}
       </ul>
-      ${archived.length
-        ? html`<details>
+      ${
+        archived.length
+          ? html`<details>
             <summary>Archived (${archived.length})</summary>
             <ul>
               ${archived.map((e) => this.item(e))}
             </ul>
           </details>`
-        : nothing}
+          : nothing
+      }
     </nav>`;
   }
 }

@@ -114,10 +114,12 @@ export class TmPrint extends LitElement {
       <p class="caution">${CAUTION}</p>
       <p>
         Printed ${formatDateTime(new Date(this.now).toISOString(), off)} (UTC${formatOffset(off)}).
-        ${tz
-          ? html`Time zero ${formatDateTime(tz.time, off)} (${tz.basis}${tz.reason ? `: ${tz.reason}` : ''}),
+        ${
+          tz
+            ? html`Time zero ${formatDateTime(tz.time, off)} (${tz.basis}${tz.reason ? `: ${tz.reason}` : ''}),
               ${formatDuration(this.now - Date.parse(tz.time))} before printing.`
-          : 'Time zero not set.'}
+            : 'Time zero not set.'
+        }
       </p>
       <p>
         Weight ${ws.weightKg ?? '—'} kg${ws.heightCm ? `, height ${ws.heightCm} cm` : ''}; dosing weight

@@ -534,7 +534,9 @@ export class TmTrends extends LitElement {
   /** Vertical lines shared by every SVG: time zero, deadlines, now, the selected and pointed rows. */
   private verticals(top: number, bottom: number): TemplateResult {
     const md = this.model!;
-    const lines = md.markers.filter((m) => (m.kind === 'time-zero' || m.kind === 'now' || m.kind === 'deadline') && m.minutes >= md.xMin && m.minutes <= md.xMax);
+    const lines = md.markers.filter(
+      (m) => (m.kind === 'time-zero' || m.kind === 'now' || m.kind === 'deadline') && m.minutes >= md.xMin && m.minutes <= md.xMax,
+    );
     const sel = this.selectedRowId !== null ? md.rowMinutes.get(this.selectedRowId) : undefined;
     const hov = this.pointedRowId !== null && this.pointedRowId !== this.selectedRowId ? md.rowMinutes.get(this.pointedRowId) : undefined;
     return svg`${lines.map((m) => {
@@ -543,10 +545,12 @@ export class TmTrends extends LitElement {
       return svg`<line class=${cls} x1=${x} x2=${x} y1=${top} y2=${bottom}><title>${m.text}</title></line>`;
     })}
     ${hov !== undefined ? svg`<line class="hover-line" x1=${this.x(hov)} x2=${this.x(hov)} y1=${top} y2=${bottom}></line>` : nothing}
-    ${sel !== undefined
-      ? svg`<rect class="sel-band" x=${this.x(sel) - 7} y=${top} width="14" height=${bottom - top}></rect>
+    ${
+      sel !== undefined
+        ? svg`<rect class="sel-band" x=${this.x(sel) - 7} y=${top} width="14" height=${bottom - top}></rect>
           <line class="sel-line" x1=${this.x(sel)} x2=${this.x(sel)} y1=${top} y2=${bottom}></line>`
-      : nothing}`;
+        : nothing
+    }`;
   }
 
   private xGrid(top: number, bottom: number): TemplateResult {
@@ -559,7 +563,10 @@ export class TmTrends extends LitElement {
     const counts = new Map<string, number>();
     for (const g of m.goals) counts.set(g.status, (counts.get(g.status) ?? 0) + 1);
     const order = ['missed', 'pending', 'met', 'no-data', 'not-applicable'] as const;
-    const tally = order.filter((s) => counts.has(s)).map((s) => `${STATUS_SYMBOL[s]}${counts.get(s) ?? 0}`).join(' ');
+    const tally = order
+      .filter((s) => counts.has(s))
+      .map((s) => `${STATUS_SYMBOL[s]}${counts.get(s) ?? 0}`)
+      .join(' ');
     return `${minutesLabel(m.minutes)} ${tally}`;
   }
 
@@ -568,7 +575,11 @@ export class TmTrends extends LitElement {
     const now = md.markers.find((m) => m.kind === 'now')!;
     const dues = md.markers.filter((m) => m.kind === 'deadline' && m.minutes >= md.xMin && m.minutes <= md.xMax);
     const tops = [...dues, now];
-    const topLanes = assignLanes(tops.map((m) => this.x(m.minutes)), 72, DUE_LANES);
+    const topLanes = assignLanes(
+      tops.map((m) => this.x(m.minutes)),
+      72,
+      DUE_LANES,
+    );
     const evTop = 6 + DUE_LANES * LANE_DUE;
     const t0 = md.markers.find((m) => m.kind === 'time-zero');
     const lanes = EVENT_LANES.map((lane, li) => {
@@ -595,7 +606,10 @@ export class TmTrends extends LitElement {
           </g>`;
         })}`;
     });
-    const label = `Events and deadlines: ${md.markers.filter((m) => m.kind !== 'now').map((m) => m.text).join('. ')}.`;
+    const label = `Events and deadlines: ${md.markers
+      .filter((m) => m.kind !== 'now')
+      .map((m) => m.text)
+      .join('. ')}.`;
     return html`<figure class="events">
       <svg viewBox="0 0 ${W} ${EVENTS_H}" role="img" aria-label=${label}>
         ${this.xGrid(evTop, EVENTS_H - 4)} ${this.verticals(4, EVENTS_H)}
@@ -732,12 +746,14 @@ export class TmTrends extends LitElement {
     return html`<figure data-key=${s.key} aria-labelledby="h-${s.key}" aria-describedby=${captionId}>
       <div class="panel-head">
         <h3 id="h-${s.key}">${s.title} <span class="unit">${s.unit}</span></h3>
-        ${last
-          ? html`<span class="latest v-${last.verdict}"
+        ${
+          last
+            ? html`<span class="latest v-${last.verdict}"
               >latest ${valueText(s.key, last.value)}${u} <span aria-hidden="true">${VERDICT_SYMBOL[last.verdict]}</span> ${VERDICT_WORD[last.verdict]}
               <span class="targets">at ${this.clock(last.timeMs)}</span></span
             >`
-          : nothing}
+            : nothing
+        }
         <span class="targets">${s.bands.length ? s.bands.map((b) => b.label).join(' · ') : s.noTarget}</span>
       </div>
       <svg viewBox="0 0 ${W} ${PANEL_H}" role="group" aria-label="${s.title} values; arrow keys move between them">
@@ -749,13 +765,16 @@ export class TmTrends extends LitElement {
             <text class="tick" x=${LEFT - 6} y=${y + 4} text-anchor="end">${String(Number(t.toPrecision(6)))}</text>`;
         })}
         ${this.xGrid(top, bottom)} ${this.verticals(top, bottom)}
-        ${s.points.length === 0
-          ? svg`<text class="no-values" x=${(LEFT + W - RIGHT) / 2} y=${(top + bottom) / 2 + 4} text-anchor="middle">No values charted</text>`
-          : this.renderPoints(s)}
+        ${
+          s.points.length === 0
+            ? svg`<text class="no-values" x=${(LEFT + W - RIGHT) / 2} y=${(top + bottom) / 2 + 4} text-anchor="middle">No values charted</text>`
+            : this.renderPoints(s)
+        }
       </svg>
       <figcaption id=${captionId}>${s.summary}</figcaption>
-      ${s.points.length
-        ? html`<details>
+      ${
+        s.points.length
+          ? html`<details>
             <summary>${s.title} values as a table</summary>
             <table>
               <thead>
@@ -773,13 +792,16 @@ export class TmTrends extends LitElement {
               </tbody>
             </table>
           </details>`
-        : nothing}
+          : nothing
+      }
     </figure>`;
   }
 
   private renderAxis(): TemplateResult {
     const md = this.model!;
-    const title = md.hasTimeZero ? 'time since time zero (top) and clock time' : 'time since the first row (time zero not set) and clock time';
+    const title = md.hasTimeZero
+      ? 'time since time zero (top) and clock time'
+      : 'time since the first row (time zero not set) and clock time';
     return html`<svg class="axis" viewBox="0 0 ${W} ${AXIS_H}" aria-hidden="true">
       ${md.xTicks.map((t) => {
         const x = this.x(t);
@@ -815,16 +837,20 @@ export class TmTrends extends LitElement {
           <span>shaded band = target</span><span class="due">┆ deadline: ✓ met ◔ pending ✕ missed ? no data</span><span>◆ crystalloid ◇ blood A antibiotic C cultures</span>
         </p>
       </div>
-      ${md.laterDeadlines.length
-        ? html`<p class="later">
+      ${
+        md.laterDeadlines.length
+          ? html`<p class="later">
             Later deadlines, past the right edge:
             ${md.laterDeadlines.map((m, i) => html`${i ? ' · ' : ''}<span class="due-text" title=${m.text}>${this.deadlineLabel(m)} at ${this.clock(m.timeMs)}</span>`)}
           </p>`
-        : nothing}
+          : nothing
+      }
       ${this.selectedNote()}
-      ${anyRows
-        ? html`${this.renderEvents()} ${md.series.map((s) => this.renderPanel(s))} ${this.renderAxis()}`
-        : html`<p class="empty">No rows yet: the trends appear once values are charted.</p>`}
+      ${
+        anyRows
+          ? html`${this.renderEvents()} ${md.series.map((s) => this.renderPanel(s))} ${this.renderAxis()}`
+          : html`<p class="empty">No rows yet: the trends appear once values are charted.</p>`
+      }
       <p class="caution">${TRENDS_CAUTION}</p>
     </section>`;
   }

@@ -49,10 +49,39 @@ interface TrendMeasure {
 
 const MEASURE_INFO: readonly TrendMeasure[] = [
   { key: 'map', title: 'MAP', fromZero: false, interval: false, noTarget: 'no MAP target in the goal sets in force', minSpan: 20 },
-  { key: 'lactate', title: 'Lactate', fromZero: true, interval: false, noTarget: 'no lactate target in the goal sets in force', minSpan: 2 },
-  { key: 'scvo2', title: 'ScvO₂', fromZero: false, ceiling: 100, interval: false, noTarget: 'no ScvO₂ target in the goal sets in force', minSpan: 15 },
-  { key: 'uo_ml_kg_h', title: 'Urine output', fromZero: true, interval: true, noTarget: 'no urine-output target in the goal sets in force', minSpan: 1 },
-  { key: 'ne_equivalent', title: 'Norepinephrine equivalent', fromZero: true, interval: false, noTarget: 'a dose, not a goal: no target band', minSpan: 0.1 },
+  {
+    key: 'lactate',
+    title: 'Lactate',
+    fromZero: true,
+    interval: false,
+    noTarget: 'no lactate target in the goal sets in force',
+    minSpan: 2,
+  },
+  {
+    key: 'scvo2',
+    title: 'ScvO₂',
+    fromZero: false,
+    ceiling: 100,
+    interval: false,
+    noTarget: 'no ScvO₂ target in the goal sets in force',
+    minSpan: 15,
+  },
+  {
+    key: 'uo_ml_kg_h',
+    title: 'Urine output',
+    fromZero: true,
+    interval: true,
+    noTarget: 'no urine-output target in the goal sets in force',
+    minSpan: 1,
+  },
+  {
+    key: 'ne_equivalent',
+    title: 'Norepinephrine equivalent',
+    fromZero: true,
+    interval: false,
+    noTarget: 'a dose, not a goal: no target band',
+    minSpan: 0.1,
+  },
 ];
 
 /** Short names of the published sets, for band labels (the full title is in the set data). */
@@ -341,7 +370,16 @@ function bandsFor(
       }
       const test = rule.test;
       if (test.kind === 'range') {
-        bands.push({ goalId: id, key: rule.key, set: short, kind: 'range', min: test.min ?? null, max: test.max ?? null, dropPct: null, fromMs });
+        bands.push({
+          goalId: id,
+          key: rule.key,
+          set: short,
+          kind: 'range',
+          min: test.min ?? null,
+          max: test.max ?? null,
+          dropPct: null,
+          fromMs,
+        });
       } else {
         const first = timed.find((t) => t.ms >= fromMs && valueAt(t.row, t.derived, rule.key) !== undefined);
         if (!first) {
@@ -430,9 +468,27 @@ export function buildTrends(
   const markers: TrendMarker[] = [];
   if (hasTimeZero) {
     const basis = ws.timeZero!.basis === 'other' ? (ws.timeZero!.reason ?? 'other') : ws.timeZero!.basis;
-    markers.push({ kind: 'time-zero', timeMs: t0, minutes: 0, rowId: null, symbol: '', short: 'time zero', text: `Time zero at ${formatClock(ws.timeZero!.time, offset)} (${basis})`, goals: [] });
+    markers.push({
+      kind: 'time-zero',
+      timeMs: t0,
+      minutes: 0,
+      rowId: null,
+      symbol: '',
+      short: 'time zero',
+      text: `Time zero at ${formatClock(ws.timeZero!.time, offset)} (${basis})`,
+      goals: [],
+    });
   }
-  markers.push({ kind: 'now', timeMs: nowMs, minutes: mins(nowMs), rowId: null, symbol: '', short: 'now', text: `Now, ${formatClock(new Date(nowMs).toISOString(), offset)}, ${sinceText(mins(nowMs), hasTimeZero)}`, goals: [] });
+  markers.push({
+    kind: 'now',
+    timeMs: nowMs,
+    minutes: mins(nowMs),
+    rowId: null,
+    symbol: '',
+    short: 'now',
+    text: `Now, ${formatClock(new Date(nowMs).toISOString(), offset)}, ${sinceText(mins(nowMs), hasTimeZero)}`,
+    goals: [],
+  });
 
   const deadlines = new Map<number, DeadlineGoal[]>();
   for (const g of goals) {
@@ -447,8 +503,14 @@ export function buildTrends(
     const m = mins(ms);
     const names = list.map((g) => `${g.set}: ${g.label} (${STATUS_SYMBOL[g.status]} ${STATUS_WORD[g.status].toLowerCase()})`).join('; ');
     markers.push({
-      kind: 'deadline', timeMs: ms, minutes: m, rowId: null, symbol: '', short: `due ${minutesLabel(m)}`,
-      text: `Deadline ${formatClock(new Date(ms).toISOString(), offset)}, ${sinceText(m, hasTimeZero)}: ${names}`, goals: list,
+      kind: 'deadline',
+      timeMs: ms,
+      minutes: m,
+      rowId: null,
+      symbol: '',
+      short: `due ${minutesLabel(m)}`,
+      text: `Deadline ${formatClock(new Date(ms).toISOString(), offset)}, ${sinceText(m, hasTimeZero)}: ${names}`,
+      goals: list,
     });
   }
   for (const t of timed) {
@@ -456,19 +518,55 @@ export function buildTrends(
     const at = `${formatClock(t.row.time, offset)}, ${sinceText(m, hasTimeZero)}`;
     const fluid = numCell(t.row, 'fluid_ml');
     if (fluid !== undefined && fluid > 0) {
-      markers.push({ kind: 'fluid', timeMs: t.ms, minutes: m, rowId: t.row.id, symbol: '◆', short: `${Math.round(fluid)} mL`, text: `Crystalloid ${Math.round(fluid)} mL charted at ${at}`, goals: [] });
+      markers.push({
+        kind: 'fluid',
+        timeMs: t.ms,
+        minutes: m,
+        rowId: t.row.id,
+        symbol: '◆',
+        short: `${Math.round(fluid)} mL`,
+        text: `Crystalloid ${Math.round(fluid)} mL charted at ${at}`,
+        goals: [],
+      });
     }
     const blood = numCell(t.row, 'blood_ml');
     if (blood !== undefined && blood > 0) {
-      markers.push({ kind: 'blood', timeMs: t.ms, minutes: m, rowId: t.row.id, symbol: '◇', short: `${Math.round(blood)} mL`, text: `Blood product ${Math.round(blood)} mL charted at ${at}`, goals: [] });
+      markers.push({
+        kind: 'blood',
+        timeMs: t.ms,
+        minutes: m,
+        rowId: t.row.id,
+        symbol: '◇',
+        short: `${Math.round(blood)} mL`,
+        text: `Blood product ${Math.round(blood)} mL charted at ${at}`,
+        goals: [],
+      });
     }
     const abx = markCell(t.row, 'antibiotic');
     if (abx !== undefined) {
-      markers.push({ kind: 'antibiotic', timeMs: t.ms, minutes: m, rowId: t.row.id, symbol: 'A', short: abx.length > 18 ? `${abx.slice(0, 17)}…` : abx, text: `Antibiotic ${abx} at ${at}`, goals: [] });
+      markers.push({
+        kind: 'antibiotic',
+        timeMs: t.ms,
+        minutes: m,
+        rowId: t.row.id,
+        symbol: 'A',
+        short: abx.length > 18 ? `${abx.slice(0, 17)}…` : abx,
+        text: `Antibiotic ${abx} at ${at}`,
+        goals: [],
+      });
     }
     const cultures = markCell(t.row, 'cultures_drawn');
     if (cultures !== undefined) {
-      markers.push({ kind: 'cultures', timeMs: t.ms, minutes: m, rowId: t.row.id, symbol: 'C', short: 'cultures', text: `Blood cultures drawn at ${at}${cultures !== 'yes' ? ` (${cultures})` : ''}`, goals: [] });
+      markers.push({
+        kind: 'cultures',
+        timeMs: t.ms,
+        minutes: m,
+        rowId: t.row.id,
+        symbol: 'C',
+        short: 'cultures',
+        text: `Blood cultures drawn at ${at}${cultures !== 'yes' ? ` (${cultures})` : ''}`,
+        goals: [],
+      });
     }
   }
 
@@ -493,7 +591,14 @@ export function buildTrends(
   // --- Series ------------------------------------------------------------------------------
   const series = MEASURE_INFO.map((info): TrendSeries => {
     const { unit, decimals } = unitOf(info.key);
-    const bands = mergeBands(info.key, raw.bands.filter((b) => b.key === info.key), raw.refs, mins, hasTimeZero, unit);
+    const bands = mergeBands(
+      info.key,
+      raw.bands.filter((b) => b.key === info.key),
+      raw.refs,
+      mins,
+      hasTimeZero,
+      unit,
+    );
     const points: TrendPoint[] = [];
     timed.forEach((t, i) => {
       const v = valueAt(t.row, t.derived, info.key);
@@ -633,7 +738,11 @@ function countWord(n: number, one: string, many: string): string {
 }
 
 /** One sentence (or two) saying what a series did against its targets: the text alternative. */
-export function seriesSummary(s: Pick<TrendSeries, 'key' | 'title' | 'unit' | 'points' | 'bands' | 'inactive' | 'noTarget'>, hasTimeZero: boolean, offset: number): string {
+export function seriesSummary(
+  s: Pick<TrendSeries, 'key' | 'title' | 'unit' | 'points' | 'bands' | 'inactive' | 'noTarget'>,
+  hasTimeZero: boolean,
+  offset: number,
+): string {
   const u = s.unit ? ` ${s.unit}` : '';
   const v = (x: number): string => valueText(s.key, x);
   if (s.points.length === 0) {
@@ -655,7 +764,8 @@ export function seriesSummary(s: Pick<TrendSeries, 'key' | 'title' | 'unit' | 'p
   } else {
     const judged = s.points.filter((p) => p.verdict !== 'none');
     const out = judged.filter((p) => p.verdict === 'above' || p.verdict === 'below').length;
-    const latest = last.verdict === 'none' ? 'the latest value is before any target counts' : `the latest value is ${VERDICT_WORD[last.verdict]}`;
+    const latest =
+      last.verdict === 'none' ? 'the latest value is before any target counts' : `the latest value is ${VERDICT_WORD[last.verdict]}`;
     text += ` Target ${s.bands.map((b) => `${b.rangeText} (${b.sets.join(', ')})`).join('; ')}: ${latest}; ${out} of ${countWord(judged.length, 'value', 'values')} judged ${out === 1 ? 'is' : 'are'} out of range.`;
   }
   for (const x of s.inactive) text += ` ${x.set} target ${x.rangeText} ${x.why}.`;
@@ -667,7 +777,10 @@ export function pointText(s: Pick<TrendSeries, 'key' | 'title' | 'unit'>, p: Tre
   const u = s.unit ? ` ${s.unit}` : '';
   const verdict =
     p.verdict === 'above' || p.verdict === 'below' ? `${VERDICT_WORD[p.verdict]} ${p.failed.join('; ')}` : VERDICT_WORD[p.verdict];
-  const interval = p.fromMinutes !== null ? ` over the interval since ${formatClock(new Date(p.timeMs - (p.minutes - p.fromMinutes) * MINUTE_MS).toISOString(), offset)}` : '';
+  const interval =
+    p.fromMinutes !== null
+      ? ` over the interval since ${formatClock(new Date(p.timeMs - (p.minutes - p.fromMinutes) * MINUTE_MS).toISOString(), offset)}`
+      : '';
   return `${formatClock(new Date(p.timeMs).toISOString(), offset)}, ${sinceText(p.minutes, hasTimeZero)}: ${s.title} ${valueText(s.key, p.value)}${u}${interval}, ${verdict}`;
 }
 
@@ -683,7 +796,12 @@ export function trendNoteLines(model: TrendModel): string[] {
     const pts = s.points.filter((p) => p.timeMs <= model.nowMs);
     if (pts.length === 0) continue;
     const u = s.unit ? ` ${s.unit}` : '';
-    const seq = pts.map((p) => `${valueText(s.key, p.value)}${p.verdict === 'above' || p.verdict === 'below' ? ' (out)' : ''} at ${minutesLabel(p.minutes)}`).join(', ');
+    const seq = pts
+      .map(
+        (p) =>
+          `${valueText(s.key, p.value)}${p.verdict === 'above' || p.verdict === 'below' ? ' (out)' : ''} at ${minutesLabel(p.minutes)}`,
+      )
+      .join(', ');
     const target = s.bands.length ? `; target ${s.bands.map((b) => `${b.rangeText} (${b.sets.join(', ')})`).join('; ')}` : '';
     lines.push(`- ${s.title}${u}: ${seq}${target}`);
   }

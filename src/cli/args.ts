@@ -81,7 +81,10 @@ export function parseCliArgs(argv: readonly string[]): ParsedArgs {
   const options: CliOptions = { json: v.json === true };
   if (v.at !== undefined) options.at = v.at;
   if (v.sets !== undefined) {
-    const sets = v.sets.split(',').map((s) => s.trim()).filter((s) => s.length > 0);
+    const sets = v.sets
+      .split(',')
+      .map((s) => s.trim())
+      .filter((s) => s.length > 0);
     if (sets.length === 0) return { kind: 'usage-error', message: '--sets needs one or more goal set ids, comma separated' };
     options.sets = sets;
   }

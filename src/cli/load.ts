@@ -18,7 +18,10 @@ export interface CliProblem {
 /** The problem as the one line the command line prints. */
 export function problemLine(p: CliProblem): string {
   const text = `tidemark: ${p.file}${p.where ? `: ${p.where}` : ''}: ${p.message}`;
-  return text.replace(/[\r\n\t]+/g, ' ').replace(/\s{2,}/g, ' ').trim();
+  return text
+    .replace(/[\r\n\t]+/g, ' ')
+    .replace(/\s{2,}/g, ' ')
+    .trim();
 }
 
 export type FileKind = 'backup' | 'csv';
@@ -28,7 +31,12 @@ export function fileKind(path: string, text: string): FileKind {
   const lower = path.toLowerCase();
   if (lower.endsWith('.json')) return 'backup';
   if (lower.endsWith('.csv')) return 'csv';
-  return text.replace(/^\uFEFF/, '').trimStart().startsWith('{') ? 'backup' : 'csv';
+  return text
+    .replace(/^\uFEFF/, '')
+    .trimStart()
+    .startsWith('{')
+    ? 'backup'
+    : 'csv';
 }
 
 /** Facts given as flags, checked. */
@@ -68,24 +76,36 @@ export function flagFacts(o: CliOptions): { ok: true; facts: FlagFacts } | { ok:
   let basis: TimeZeroBasis = 'other';
   if (o.timeZeroBasis !== undefined) {
     const b = TimeZeroBasis.safeParse(o.timeZeroBasis.trim().toLowerCase());
-    if (!b.success) return { ok: false, problem: { file: '--time-zero-basis', message: `"${o.timeZeroBasis}" is not one of: ${TimeZeroBasis.options.join(', ')}` } };
+    if (!b.success)
+      return {
+        ok: false,
+        problem: { file: '--time-zero-basis', message: `"${o.timeZeroBasis}" is not one of: ${TimeZeroBasis.options.join(', ')}` },
+      };
     basis = b.data;
   }
   if (o.timeZero !== undefined) {
     const t = readCsvTime(o.timeZero);
     if (!t.ok) return { ok: false, problem: { file: '--time-zero', message: t.error } };
-    facts.timeZero = basis === 'other'
-      ? { time: t.time, offset: t.offset, basis, reason: 'given with --time-zero on the command line' }
-      : { time: t.time, offset: t.offset, basis };
+    facts.timeZero =
+      basis === 'other'
+        ? { time: t.time, offset: t.offset, basis, reason: 'given with --time-zero on the command line' }
+        : { time: t.time, offset: t.offset, basis };
   }
   if (o.label !== undefined) {
-    if (o.label.trim() === '' || o.label.length > 60) return { ok: false, problem: { file: '--label', message: 'give a bed or case code of 1 to 60 characters' } };
+    if (o.label.trim() === '' || o.label.length > 60)
+      return { ok: false, problem: { file: '--label', message: 'give a bed or case code of 1 to 60 characters' } };
     facts.label = o.label.trim();
   }
   return { ok: true, facts };
 }
 
-const FLAG_OF: Record<string, string> = { weightKg: '--weight-kg', heightCm: '--height-cm', sex: '--sex', timeZero: '--time-zero', label: '--label' };
+const FLAG_OF: Record<string, string> = {
+  weightKg: '--weight-kg',
+  heightCm: '--height-cm',
+  sex: '--sex',
+  timeZero: '--time-zero',
+  label: '--label',
+};
 
 function baseName(path: string): string {
   const name = path.split(/[\\/]/).pop() ?? path;
@@ -105,10 +125,18 @@ export function loadWorksheets(path: string, text: string, facts: FlagFacts, now
     const read = readWorksheetCsv(text);
     if (!read.ok) {
       const e = read.errors[0]!;
-      return { ok: false, problem: { file: path, where: `line ${e.line}${e.column !== undefined ? `, column ${e.column}` : ''}`, message: e.message } };
+      return {
+        ok: false,
+        problem: { file: path, where: `line ${e.line}${e.column !== undefined ? `, column ${e.column}` : ''}`, message: e.message },
+      };
     }
     const label = (facts.label ?? baseName(path)).slice(0, 60);
-    const csvFacts: CsvFacts = { label, id: `csv-${baseName(path).replace(/[^A-Za-z0-9_-]+/g, '-').slice(0, 50)}` };
+    const csvFacts: CsvFacts = {
+      label,
+      id: `csv-${baseName(path)
+        .replace(/[^A-Za-z0-9_-]+/g, '-')
+        .slice(0, 50)}`,
+    };
     if (facts.weightKg !== undefined) csvFacts.weightKg = facts.weightKg;
     if (facts.heightCm !== undefined) csvFacts.heightCm = facts.heightCm;
     if (facts.sex !== undefined) csvFacts.sex = facts.sex;
@@ -142,16 +170,43 @@ export function loadWorksheets(path: string, text: string, facts: FlagFacts, now
 }
 
 /** Picks the one worksheet a command works on: by --label (label or id), or the only one. */
-export function pickWorksheet(path: string, worksheets: readonly Worksheet[], label: string | undefined): { ok: true; worksheet: Worksheet } | { ok: false; problem: CliProblem } {
+export function pickWorksheet(
+  path: string,
+  worksheets: readonly Worksheet[],
+  label: string | undefined,
+): { ok: true; worksheet: Worksheet } | { ok: false; problem: CliProblem } {
   if (label !== undefined) {
     const found = worksheets.filter((w) => w.label === label || w.id === label);
     if (found.length === 1) return { ok: true, worksheet: found[0]! };
-    const names = worksheets.map((w) => `"${w.label}"`).slice(0, 10).join(', ');
-    if (found.length === 0) return { ok: false, problem: { file: path, where: '--label', message: `no worksheet labelled "${label}"; the file holds ${names || 'none'}` } };
-    return { ok: false, problem: { file: path, where: '--label', message: `${found.length} worksheets are labelled "${label}"; use the worksheet id instead` } };
+    const names = worksheets
+      .map((w) => `"${w.label}"`)
+      .slice(0, 10)
+      .join(', ');
+    if (found.length === 0)
+      return {
+        ok: false,
+        problem: { file: path, where: '--label', message: `no worksheet labelled "${label}"; the file holds ${names || 'none'}` },
+      };
+    return {
+      ok: false,
+      problem: {
+        file: path,
+        where: '--label',
+        message: `${found.length} worksheets are labelled "${label}"; use the worksheet id instead`,
+      },
+    };
   }
   if (worksheets.length === 1) return { ok: true, worksheet: worksheets[0]! };
   if (worksheets.length === 0) return { ok: false, problem: { file: path, message: 'the backup holds no worksheet' } };
-  const names = worksheets.map((w) => `"${w.label}"`).slice(0, 10).join(', ');
-  return { ok: false, problem: { file: path, message: `the backup holds ${worksheets.length} worksheets (${names}${worksheets.length > 10 ? ', ...' : ''}); choose one with --label` } };
+  const names = worksheets
+    .map((w) => `"${w.label}"`)
+    .slice(0, 10)
+    .join(', ');
+  return {
+    ok: false,
+    problem: {
+      file: path,
+      message: `the backup holds ${worksheets.length} worksheets (${names}${worksheets.length > 10 ? ', ...' : ''}); choose one with --label`,
+    },
+  };
 }

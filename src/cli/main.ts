@@ -88,7 +88,16 @@ function readFile(io: CliIo, path: string): string {
     return io.readText(path);
   } catch (e) {
     const code = (e as { code?: string }).code;
-    const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'is a folder, not a file' : code === 'EACCES' ? 'permission denied' : e instanceof Error ? e.message : String(e);
+    const why =
+      code === 'ENOENT'
+        ? 'no such file'
+        : code === 'EISDIR'
+          ? 'is a folder, not a file'
+          : code === 'EACCES'
+            ? 'permission denied'
+            : e instanceof Error
+              ? e.message
+              : String(e);
     throw new BadInput({ file: path, message: `cannot read: ${why}` });
   }
 }
@@ -103,7 +112,10 @@ function atOf(o: CliOptions, io: CliIo): number {
 function checkSets(o: CliOptions): void {
   for (const id of o.sets ?? []) {
     if (id !== CUSTOM_SET_ID && !defaultRegistry.has(id)) {
-      throw new BadInput({ file: '--sets', message: `unknown goal set "${id}"; known sets: ${[...defaultRegistry.ids(), CUSTOM_SET_ID].join(', ')}` });
+      throw new BadInput({
+        file: '--sets',
+        message: `unknown goal set "${id}"; known sets: ${[...defaultRegistry.ids(), CUSTOM_SET_ID].join(', ')}`,
+      });
     }
   }
 }
@@ -178,11 +190,22 @@ export function statusText(ws: Worksheet, goals: readonly GoalStatus[], atMs: nu
   for (const g of goals) {
     let detail = '';
     if (g.status === 'met') {
-      detail = g.target ? (g.target.latestValue !== null ? `latest ${g.target.latestValue} ${g.target.unit}`.trim() : '') : g.metAt ? `at ${hhmm(g.metAt)} (${dur(g.minutesFromTimeZero ?? 0)} from time zero)` : '';
+      detail = g.target
+        ? g.target.latestValue !== null
+          ? `latest ${g.target.latestValue} ${g.target.unit}`.trim()
+          : ''
+        : g.metAt
+          ? `at ${hhmm(g.metAt)} (${dur(g.minutesFromTimeZero ?? 0)} from time zero)`
+          : '';
     } else if (g.status === 'pending') {
       detail = g.deadline ? `due ${hhmm(g.deadline)}${g.minutesLeft !== null ? ` (${dur(g.minutesLeft)} left)` : ''}` : 'not yet met';
     } else if (g.status === 'missed') {
-      detail = g.late && g.metAt ? `done late at ${hhmm(g.metAt)}, due ${g.deadline ? hhmm(g.deadline) : '-'}` : g.deadline ? `due ${hhmm(g.deadline)}${g.minutesOverdue !== null ? `, ${dur(g.minutesOverdue)} overdue` : ''}` : '';
+      detail =
+        g.late && g.metAt
+          ? `done late at ${hhmm(g.metAt)}, due ${g.deadline ? hhmm(g.deadline) : '-'}`
+          : g.deadline
+            ? `due ${hhmm(g.deadline)}${g.minutesOverdue !== null ? `, ${dur(g.minutesOverdue)} overdue` : ''}`
+            : '';
     }
     lines.push(`${g.id.padEnd(idWidth)}  ${g.status.padEnd(14)}  ${toAscii(detail)}`.trimEnd());
   }
@@ -198,7 +221,10 @@ function review(io: CliIo, folder: string, o: CliOptions): number {
   const facts = flagFacts(o);
   if (!facts.ok) throw new BadInput(facts.problem);
   const atMs = atOf(o, io);
-  const names = io.listFolder(folder).filter((n) => REVIEW_EXT.test(n)).sort();
+  const names = io
+    .listFolder(folder)
+    .filter((n) => REVIEW_EXT.test(n))
+    .sort();
   if (names.length === 0) throw new BadInput({ file: folder, message: 'holds no .json or .csv files' });
   const perWorksheet: GoalStatus[][] = [];
   // Remarks wait until every file has been read: bad input must give exactly one line.

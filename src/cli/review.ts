@@ -39,13 +39,27 @@ export function median(values: readonly number[]): number | null {
 }
 
 /** Aggregates the statuses of each worksheet (one array per worksheet). Goal order: first seen. */
-export function reviewGoals(perWorksheet: readonly (readonly Pick<GoalStatus, 'id' | 'status' | 'minutesFromTimeZero'>[])[], atIso: string): ReviewReport {
+export function reviewGoals(
+  perWorksheet: readonly (readonly Pick<GoalStatus, 'id' | 'status' | 'minutesFromTimeZero'>[])[],
+  atIso: string,
+): ReviewReport {
   const rows = new Map<string, ReviewGoalRow & { minutes: number[] }>();
   for (const statuses of perWorksheet) {
     for (const g of statuses) {
       let r = rows.get(g.id);
       if (!r) {
-        r = { id: g.id, worksheets: 0, applicable: 0, met: 0, missed: 0, pending: 0, noData: 0, notApplicable: 0, medianMinutesToMet: null, minutes: [] };
+        r = {
+          id: g.id,
+          worksheets: 0,
+          applicable: 0,
+          met: 0,
+          missed: 0,
+          pending: 0,
+          noData: 0,
+          notApplicable: 0,
+          medianMinutesToMet: null,
+          minutes: [],
+        };
         rows.set(g.id, r);
       }
       r.worksheets += 1;
@@ -91,7 +105,11 @@ export function reviewTable(report: ReviewReport, folder: string): string {
     g.medianMinutesToMet === null ? '-' : String(Math.round(g.medianMinutesToMet * 10) / 10),
   ]);
   const widths = head.map((h, i) => Math.max(h.length, ...body.map((r) => r[i]!.length)));
-  const line = (cells: string[]): string => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ').trimEnd();
+  const line = (cells: string[]): string =>
+    cells
+      .map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!)))
+      .join('  ')
+      .trimEnd();
   return [
     `Review of ${report.worksheets} worksheet${report.worksheets === 1 ? '' : 's'} in ${folder}, judged at ${report.at}`,
     '',

@@ -57,7 +57,8 @@ export const MAX_ISSUES = 20;
  */
 export function parseCsvRecords(text: string): CsvParseResult {
   if (typeof text !== 'string') return { ok: false, errors: [{ line: 1, message: 'the input is not text' }] };
-  if (text.length > MAX_CSV_CHARS) return { ok: false, errors: [{ line: 1, message: `the file is larger than ${MAX_CSV_CHARS} characters` }] };
+  if (text.length > MAX_CSV_CHARS)
+    return { ok: false, errors: [{ line: 1, message: `the file is larger than ${MAX_CSV_CHARS} characters` }] };
   const s = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
   const records: CsvRecord[] = [];
   let line = 1;
@@ -109,7 +110,10 @@ export function parseCsvRecords(text: string): CsvParseResult {
         return { ok: false, errors: [{ line: startLine, message: `a quoted field opened on line ${startLine} is never closed` }] };
       }
       if (i < n && s[i] !== ',' && s[i] !== '\r' && s[i] !== '\n') {
-        return { ok: false, errors: [{ line, message: 'text after a closing quote; a quoted field must end at a comma or the end of the line' }] };
+        return {
+          ok: false,
+          errors: [{ line, message: 'text after a closing quote; a quoted field must end at a comma or the end of the line' }],
+        };
       }
       atFieldStart = false;
       continue;
@@ -133,7 +137,10 @@ export function parseCsvRecords(text: string): CsvParseResult {
       continue;
     }
     if (ch === '"') {
-      return { ok: false, errors: [{ line, message: 'a quote inside an unquoted field; enclose the field in double quotes and double the quote' }] };
+      return {
+        ok: false,
+        errors: [{ line, message: 'a quote inside an unquoted field; enclose the field in double quotes and double the quote' }],
+      };
     }
     field += ch;
     atFieldStart = false;
@@ -155,7 +162,11 @@ export interface CsvRow {
 }
 
 export type CsvReadResult =
-  | { ok: true; /** Measure keys of the columns, in header order (derived columns left out). */ keys: string[]; /** Rows in time order. */ rows: CsvRow[] }
+  | {
+      ok: true;
+      /** Measure keys of the columns, in header order (derived columns left out). */ keys: string[];
+      /** Rows in time order. */ rows: CsvRow[];
+    }
   | { ok: false; errors: CsvIssue[] };
 
 const OFFSET_AT_END = /(?:z|[+-]\d{2}:?\d{2})$/i;
@@ -215,11 +226,17 @@ function readInner(text: string): CsvReadResult {
   const parsed = parseCsvRecords(text);
   if (!parsed.ok) return parsed;
   const [head, ...data] = parsed.records;
-  if (!head) return { ok: false, errors: [{ line: 1, message: 'the file is empty; the first line must name the columns, starting with time' }] };
+  if (!head)
+    return { ok: false, errors: [{ line: 1, message: 'the file is empty; the first line must name the columns, starting with time' }] };
   const names = head.fields.map((f) => f.trim().toLowerCase());
   const errors: CsvIssue[] = [];
   if (names[0] !== 'time') {
-    return { ok: false, errors: [{ line: head.line, column: head.fields[0] ?? '', message: `the first column must be "time", not "${head.fields[0] ?? ''}"` }] };
+    return {
+      ok: false,
+      errors: [
+        { line: head.line, column: head.fields[0] ?? '', message: `the first column must be "time", not "${head.fields[0] ?? ''}"` },
+      ],
+    };
   }
   /** Column index -> measure key, or null for a skipped derived column. */
   const columns: (string | null)[] = [null];
@@ -301,7 +318,12 @@ export type CsvWorksheetResult = { ok: true; worksheet: Worksheet } | { ok: fals
  * Builds a worksheet from rows read from a CSV. Row ids are `line-<n>` (stable for a file).
  * The edit log gets one `import` entry; no cell entries, so nothing is marked as entered late.
  */
-export function worksheetFromCsvRows(read: { keys: string[]; rows: CsvRow[] }, facts: CsvFacts, nowMs: number, source = 'CSV'): CsvWorksheetResult {
+export function worksheetFromCsvRows(
+  read: { keys: string[]; rows: CsvRow[] },
+  facts: CsvFacts,
+  nowMs: number,
+  source = 'CSV',
+): CsvWorksheetResult {
   const now = new Date(nowMs).toISOString();
   const rows: Row[] = read.rows.map((r) => ({ id: `line-${r.line}`, time: r.time, offset: r.offset, cells: r.cells }));
   const columns = [...DEFAULT_COLUMNS.filter((k) => read.keys.includes(k)), ...read.keys.filter((k) => !DEFAULT_COLUMNS.includes(k))];
@@ -329,7 +351,10 @@ export function worksheetFromCsvRows(read: { keys: string[]; rows: CsvRow[] }, f
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
     const path = issue ? issue.path.join('.') : '';
-    return { ok: false, errors: [{ line: 1, column: path, message: `${path ? `${path}: ` : ''}${issue?.message ?? 'invalid worksheet'}` }] };
+    return {
+      ok: false,
+      errors: [{ line: 1, column: path, message: `${path ? `${path}: ` : ''}${issue?.message ?? 'invalid worksheet'}` }],
+    };
   }
   return { ok: true, worksheet: parsed.data };
 }

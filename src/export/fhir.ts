@@ -159,7 +159,10 @@ export interface FhirOptions {
 
 /** 128-bit non-cryptographic hash (four 32-bit lanes of a multiply-xorshift mix). */
 function hash128(text: string): [number, number, number, number] {
-  let h1 = 0x6a09e667, h2 = 0xbb67ae85, h3 = 0x3c6ef372, h4 = 0xa54ff53a;
+  let h1 = 0x6a09e667,
+    h2 = 0xbb67ae85,
+    h3 = 0x3c6ef372,
+    h4 = 0xa54ff53a;
   for (let i = 0; i < text.length; i += 1) {
     const k = text.charCodeAt(i);
     h1 = h2 ^ Math.imul(h1 ^ k, 597399067);
@@ -180,7 +183,9 @@ function hash128(text: string): [number, number, number, number] {
 
 /** A name-based UUID (RFC 9562 version 8, variant 10) for a text: same text, same UUID. */
 export function stableUuid(text: string): string {
-  const hex = hash128(text).map((n) => n.toString(16).padStart(8, '0')).join('');
+  const hex = hash128(text)
+    .map((n) => n.toString(16).padStart(8, '0'))
+    .join('');
   const v = `8${hex.slice(13, 16)}`;
   const variant = ((parseInt(hex[16]!, 16) & 0x3) | 0x8).toString(16) + hex.slice(17, 20);
   return `${hex.slice(0, 8)}-${hex.slice(8, 12)}-${v}-${variant}-${hex.slice(20, 32)}`;
@@ -427,9 +432,10 @@ export function worksheetToFhir(ws: Worksheet, options: FhirOptions): Bundle {
           }
         }
         const label = plainLabel(def.label);
-        const coding: Coding[] = key === 'map'
-          ? [{ system: LOINC_SYSTEM, code: '8478-0', display: 'Mean blood pressure' }]
-          : [{ system: LOCAL_DERIVED_SYSTEM, code: key, display: label }];
+        const coding: Coding[] =
+          key === 'map'
+            ? [{ system: LOINC_SYSTEM, code: '8478-0', display: 'Mean blood pressure' }]
+            : [{ system: LOCAL_DERIVED_SYSTEM, code: key, display: label }];
         const obs: Observation = {
           resourceType: 'Observation',
           status: 'final',

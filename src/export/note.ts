@@ -34,10 +34,53 @@ export const NOTE_CAUTION =
   'CAUTION: Decision support only. Defaults follow published guidance and must be checked against local protocols and licensed clinical judgment.';
 
 const ASCII_MAP: Readonly<Record<string, string>> = {
-  'µ': 'u', 'μ': 'u', '₀': '0', '₁': '1', '₂': '2', '₃': '3', '₄': '4', '²': '2', '³': '3', '⁹': '9', '⁻': '-', '¹': '1',
-  '≥': '>=', '≤': '<=', '≠': '!=', '≈': '~', '±': '+/-', '–': '-', '—': '-', '−': '-', '‐': '-', '‑': '-', '×': 'x', '÷': '/',
-  '°': '', '✓': 'yes', '…': '...', 'Δ': 'change ', 'Σ': 'total ', '‘': "'", '’': "'", '“': '"', '”': '"', '→': '->',
-  '←': '<-', '·': '.', '•': '-', '\u00A0': ' ', '\u2009': ' ', '\u202F': ' ', 'ß': 'ss', 'æ': 'ae', 'Æ': 'AE', 'ø': 'o', 'Ø': 'O', 'œ': 'oe', 'Œ': 'OE',
+  µ: 'u',
+  μ: 'u',
+  '₀': '0',
+  '₁': '1',
+  '₂': '2',
+  '₃': '3',
+  '₄': '4',
+  '²': '2',
+  '³': '3',
+  '⁹': '9',
+  '⁻': '-',
+  '¹': '1',
+  '≥': '>=',
+  '≤': '<=',
+  '≠': '!=',
+  '≈': '~',
+  '±': '+/-',
+  '–': '-',
+  '—': '-',
+  '−': '-',
+  '‐': '-',
+  '‑': '-',
+  '×': 'x',
+  '÷': '/',
+  '°': '',
+  '✓': 'yes',
+  '…': '...',
+  Δ: 'change ',
+  Σ: 'total ',
+  '‘': "'",
+  '’': "'",
+  '“': '"',
+  '”': '"',
+  '→': '->',
+  '←': '<-',
+  '·': '.',
+  '•': '-',
+  '\u00A0': ' ',
+  '\u2009': ' ',
+  '\u202F': ' ',
+  ß: 'ss',
+  æ: 'ae',
+  Æ: 'AE',
+  ø: 'o',
+  Ø: 'O',
+  œ: 'oe',
+  Œ: 'OE',
 };
 
 /** Folds text to printable ASCII by the fallbacks above. */
@@ -70,7 +113,9 @@ export function toAscii(text: string): string {
  * with `rest` (a hanging indent). A word longer than a line is cut.
  */
 export function wrap(text: string, first = '', rest = first, width = NOTE_WIDTH): string[] {
-  const words = toAscii(text).split(' ').filter((w) => w.length > 0);
+  const words = toAscii(text)
+    .split(' ')
+    .filter((w) => w.length > 0);
   const lines: string[] = [];
   let line = first;
   let empty = true;
@@ -220,18 +265,26 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
     heading('Goals');
     para('No goal sets chosen.');
   }
-  goalSection('Goals', goals.filter((g) => g.target === null), (g) => goalDetail(g, timeText, rel, dur));
-  goalSection('Targets: latest value against target', goals.filter((g) => g.target !== null), (g) => {
-    const t = g.target!;
-    if (g.status === 'not-applicable' || g.status === 'no-data' || t.latestValue === null || t.latestAt === null) {
-      return `Target ${t.rangeText}. ${g.explanation}`;
-    }
-    let text = `Target ${t.rangeText}; latest ${round(t.latestValue, MEASURES.get(t.key)?.decimals ?? 2)}${t.unit ? ` ${t.unit}` : ''} at ${timeText(Date.parse(t.latestAt))}`;
-    if (t.ageMinutes !== null) text += ` (${dur(t.ageMinutes * 60_000)} old)`;
-    text += t.inRangeNow === true ? ', in range now' : t.inRangeNow === false ? ', OUT OF RANGE now' : '';
-    if (t.shareInRange !== null) text += `; in range ${Math.round(t.shareInRange * 100)}% of charted time`;
-    return `${text}.`;
-  });
+  goalSection(
+    'Goals',
+    goals.filter((g) => g.target === null),
+    (g) => goalDetail(g, timeText, rel, dur),
+  );
+  goalSection(
+    'Targets: latest value against target',
+    goals.filter((g) => g.target !== null),
+    (g) => {
+      const t = g.target!;
+      if (g.status === 'not-applicable' || g.status === 'no-data' || t.latestValue === null || t.latestAt === null) {
+        return `Target ${t.rangeText}. ${g.explanation}`;
+      }
+      let text = `Target ${t.rangeText}; latest ${round(t.latestValue, MEASURES.get(t.key)?.decimals ?? 2)}${t.unit ? ` ${t.unit}` : ''} at ${timeText(Date.parse(t.latestAt))}`;
+      if (t.ageMinutes !== null) text += ` (${dur(t.ageMinutes * 60_000)} old)`;
+      text += t.inRangeNow === true ? ', in range now' : t.inRangeNow === false ? ', OUT OF RANGE now' : '';
+      if (t.shareInRange !== null) text += `; in range ${Math.round(t.shareInRange * 100)}% of charted time`;
+      return `${text}.`;
+    },
+  );
 
   // --- lactate ------------------------------------------------------------------------------
   heading('Lactate');
@@ -256,7 +309,8 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
   const from = t0Ms === undefined ? 'since the first row' : 'since time zero';
   const crystalloid = total('fluid_ml');
   let fluidText = `Crystalloid ${from}: ${Math.round(crystalloid)} mL`;
-  if (weight) fluidText += ` = ${round(crystalloid / weight.kg, 1)} mL/kg of ${round(weight.kg, 1)} kg (${weight.basis === 'ideal' ? 'ideal body weight, Devine' : 'actual body weight'})`;
+  if (weight)
+    fluidText += ` = ${round(crystalloid / weight.kg, 1)} mL/kg of ${round(weight.kg, 1)} kg (${weight.basis === 'ideal' ? 'ideal body weight, Devine' : 'actual body weight'})`;
   else fluidText += ' (no weight: mL/kg cannot be given)';
   para(`${fluidText}.`, '- ', '  ');
   if (charted('blood_ml')) para(`Blood products ${from}: ${Math.round(total('blood_ml'))} mL.`, '- ', '  ');
@@ -292,7 +346,8 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
     for (const key of ['norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'dobutamine', 'vasopressin']) {
       const last = [...rows].reverse().find((r) => num(r, key) !== undefined);
       const v = last ? num(last, key)! : 0;
-      if (last && v > 0) running.push(`${MEASURES.get(key)!.label.toLowerCase()} ${measureText(key, v)} (charted ${timeText(Date.parse(last.time))})`);
+      if (last && v > 0)
+        running.push(`${MEASURES.get(key)!.label.toLowerCase()} ${measureText(key, v)} (charted ${timeText(Date.parse(last.time))})`);
     }
     para(running.length ? `Running at the summary time: ${running.join(', ')}.` : 'None running at the summary time.', '- ', '  ');
   }
@@ -333,7 +388,10 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
     const fl = num(r, 'fluid_ml');
     if (fl !== undefined) {
       if (since(r)) runningFluid += fl;
-      add(`Crystalloid ${Math.round(fl)} mL over ${interval}${since(r) ? ` (${Math.round(runningFluid)} mL ${t0Ms === undefined ? 'in all' : 'since time zero'})` : ' (before time zero)'}`, ['fluid_ml']);
+      add(
+        `Crystalloid ${Math.round(fl)} mL over ${interval}${since(r) ? ` (${Math.round(runningFluid)} mL ${t0Ms === undefined ? 'in all' : 'since time zero'})` : ' (before time zero)'}`,
+        ['fluid_ml'],
+      );
     }
     const bl = num(r, 'blood_ml');
     if (bl !== undefined) add(`Blood product ${Math.round(bl)} mL over ${interval}`, ['blood_ml']);
@@ -344,7 +402,8 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
       const name = MEASURES.get(key)!.label;
       if (prev <= 0 && v > 0) add(`${name} started at ${measureText(key, v)}`, [key]);
       else if (prev > 0 && v <= 0) add(`${name} stopped`, [key]);
-      else if (prev > 0 && Math.abs(v - prev) > 1e-12) add(`${name} ${formatNumber(MEASURES.get(key)!, prev)} -> ${measureText(key, v)}`, [key]);
+      else if (prev > 0 && Math.abs(v - prev) > 1e-12)
+        add(`${name} ${formatNumber(MEASURES.get(key)!, prev)} -> ${measureText(key, v)}`, [key]);
       lastRate.set(key, v);
     }
     const lac = num(r, 'lactate');
@@ -380,7 +439,11 @@ export function worksheetNote(ws: Worksheet, options: NoteOptions): string {
   }
   for (const grp of groups.values()) {
     const notes = grp.notes.length ? `; note: ${grp.notes.join('; ')}` : '';
-    para(`${timeText(grp.rowMs)} values, entered ${timeText(grp.atMs)} (${dur(grp.atMs - grp.rowMs)} later): ${grp.names.join(', ')}${notes}.`, '- ', '  ');
+    para(
+      `${timeText(grp.rowMs)} values, entered ${timeText(grp.atMs)} (${dur(grp.atMs - grp.rowMs)} later): ${grp.names.join(', ')}${notes}.`,
+      '- ',
+      '  ',
+    );
   }
 
   blank();

@@ -35,7 +35,10 @@ export interface GoalClock {
  * Each goal's clock at `nowMs`. Statuses may have been evaluated a little earlier; the clock uses
  * the deadline and `nowMs`, and the status is re-evaluated at the tick nextTickMs gives.
  */
-export function goalClocks(statuses: readonly (Pick<GoalStatus, 'id' | 'status' | 'deadline'> & { late?: boolean })[], nowMs: number): GoalClock[] {
+export function goalClocks(
+  statuses: readonly (Pick<GoalStatus, 'id' | 'status' | 'deadline'> & { late?: boolean })[],
+  nowMs: number,
+): GoalClock[] {
   return statuses.map((s) => {
     const d = s.deadline === null ? null : Date.parse(s.deadline);
     const clock: GoalClock = { id: s.id, status: s.status, deadlineMs: d, msLeft: null, msOverdue: null, showSeconds: false };
@@ -88,7 +91,11 @@ function toNextBoundary(nowMs: number, anchorMs: number, period: number): number
  *   deadline, including the moment the deadline passes (when the goal turns missed);
  * - at once (1 ms) when a status says pending but its deadline has already passed (stale list).
  */
-export function nextTickMs(statuses: readonly (Pick<GoalStatus, 'status' | 'deadline'> & { late?: boolean })[], nowMs: number, timeZeroMs?: number): number {
+export function nextTickMs(
+  statuses: readonly (Pick<GoalStatus, 'status' | 'deadline'> & { late?: boolean })[],
+  nowMs: number,
+  timeZeroMs?: number,
+): number {
   let step = MINUTE_MS;
   if (timeZeroMs !== undefined && Number.isFinite(timeZeroMs)) step = Math.min(step, toNextBoundary(nowMs, timeZeroMs, MINUTE_MS));
   for (const s of statuses) {

@@ -54,9 +54,7 @@ export interface BpPoint {
 
 /** Sorted rows with their times; stable for rows at the same instant. */
 export function timedRows(ws: Worksheet): TimedRow[] {
-  const sorted = ws.rows
-    .map((row, i) => ({ row, ms: Date.parse(row.time), i }))
-    .sort((a, b) => a.ms - b.ms || a.i - b.i);
+  const sorted = ws.rows.map((row, i) => ({ row, ms: Date.parse(row.time), i })).sort((a, b) => a.ms - b.ms || a.i - b.i);
   return sorted.map((r, i) => ({ row: r.row, ms: r.ms, prevMs: i > 0 ? sorted[i - 1]!.ms : undefined }));
 }
 

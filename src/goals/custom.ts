@@ -97,7 +97,10 @@ export function evaluateCustomGoals(ws: Worksheet, ctx: EvalContext | undefined,
     const res = evaluateAtRows(ordered, derivation, target.formula);
     const window = idx.slice(fromPos).filter((i) => res[i]!.ok);
     if (window.length === 0) {
-      const miss = idx.slice(fromPos).map((i) => res[i]!).find((r) => !r.ok);
+      const miss = idx
+        .slice(fromPos)
+        .map((i) => res[i]!)
+        .find((r) => !r.ok);
       out.explanation = `The target cannot be worked out yet${miss && !miss.ok && miss.missing ? `: it needs ${miss.missing.join(', ')}` : ''}.`;
       return out;
     }
@@ -130,15 +133,19 @@ export function evaluateCustomGoals(ws: Worksheet, ctx: EvalContext | undefined,
     };
     const facts: RuleFacts = {
       holdsNow: standing ? nowTrue : reached !== undefined,
-      text: reached !== undefined
-        ? `${g.target} true at ${clockText(ctx, msOf(reached))}${standing ? `; ${nowTrue ? 'true' : 'not true'} at ${clockText(ctx, msOf(latest))}` : ''}`
-        : `${g.target} not true yet (last worked out at ${clockText(ctx, msOf(latest))})`,
+      text:
+        reached !== undefined
+          ? `${g.target} true at ${clockText(ctx, msOf(reached))}${standing ? `; ${nowTrue ? 'true' : 'not true'} at ${clockText(ctx, msOf(latest))}` : ''}`
+          : `${g.target} not true yet (last worked out at ${clockText(ctx, msOf(latest))})`,
       supportRowIds: reached !== undefined ? [idOf(reached)] : [],
       failRowIds: standing && !nowTrue ? [idOf(latest)] : [],
       target: info,
     };
     if (reached !== undefined) facts.doneMs = msOf(reached);
-    const deadline = g.deadlineMinutes === undefined ? undefined : { ms: ctx.t0Ms + g.deadlineMinutes * MINUTE_MS, text: `${g.deadlineMinutes} min from time zero` };
+    const deadline =
+      g.deadlineMinutes === undefined
+        ? undefined
+        : { ms: ctx.t0Ms + g.deadlineMinutes * MINUTE_MS, text: `${g.deadlineMinutes} min from time zero` };
     return decide(ctx, out, facts, deadline);
   });
 }

@@ -92,7 +92,11 @@ export function evaluate(ws: Worksheet, setIds: readonly string[], atMs: number,
   const withCustom = setIds.includes(CUSTOM_SET_ID);
   const t0Ms = ws.timeZero ? Date.parse(ws.timeZero.time) : undefined;
   if (t0Ms === undefined || !Number.isFinite(t0Ms)) {
-    const none = (s: GoalStatus): GoalStatus => ({ ...s, status: 'no-data', explanation: 'Time zero is not set: set it to start the goal clocks.' });
+    const none = (s: GoalStatus): GoalStatus => ({
+      ...s,
+      status: 'no-data',
+      explanation: 'Time zero is not set: set it to start the goal clocks.',
+    });
     const out = sets.flatMap((set) => set.goals.map((g) => none(baseStatus(set, g, g.rule.kind))));
     if (withCustom) out.push(...evaluateCustomGoals(ws, undefined, atMs).map(none));
     return out;

@@ -56,7 +56,12 @@ export function goalTimeText(g: GoalStatus, nowMs: number, offset: number): stri
     case 'met': {
       if (!g.metAt) return 'met';
       const mins = g.minutesFromTimeZero;
-      const rel = mins === null ? '' : mins >= 0 ? ` · ${formatDuration(mins * 60_000)} after time zero` : ` · ${formatDuration(-mins * 60_000)} before time zero`;
+      const rel =
+        mins === null
+          ? ''
+          : mins >= 0
+            ? ` · ${formatDuration(mins * 60_000)} after time zero`
+            : ` · ${formatDuration(-mins * 60_000)} before time zero`;
       return `done ${formatClock(g.metAt, offset)}${rel}`;
     }
     case 'not-applicable':

@@ -181,17 +181,27 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
       if (run) {
         const last = run[run.length - 1]!;
         const what = run.map((x) => `${readingText(x)} at ${clockText(ctx, x.r.ms)}`).join(' then ');
-        return yes(last.r.ms, run.map((x) => x.r.row.id), `low blood pressure (${lowWords(p)}): ${what}`);
+        return yes(
+          last.r.ms,
+          run.map((x) => x.r.row.id),
+          `low blood pressure (${lowWords(p)}): ${what}`,
+        );
       }
       const need = p.consecutive > 1 ? `${p.consecutive} consecutive low readings` : 'a low reading';
-      return no(`no ${need} (${lowWords(p)})${afterWords}`, readings.map((x) => x.r.row.id));
+      return no(
+        `no ${need} (${lowWords(p)})${afterWords}`,
+        readings.map((x) => x.r.row.id),
+      );
     }
 
     case 'hypotension-after-volume': {
       if (!ctx.weight) return unknown('no weight, so the end of the per-kg fluids cannot be found');
       const v = volumeProgress(ctx, p.key, p.mlPerKg, p.lookbackMinutes);
       if (!v.reached) {
-        return no(`${p.mlPerKg} mL/kg not complete (${mlText(v.givenMl)} of ${mlText(v.targetMl!)}), so hypotension after it cannot be judged yet`, v.rowIds);
+        return no(
+          `${p.mlPerKg} mL/kg not complete (${mlText(v.givenMl)} of ${mlText(v.targetMl!)}), so hypotension after it cannot be judged yet`,
+          v.rowIds,
+        );
       }
       const endMs = v.reached.ms;
       const closeMs = endMs + p.withinMinutes * MINUTE_MS;
@@ -201,7 +211,11 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
       if (run) {
         const last = run[run.length - 1]!;
         const what = run.map((x) => `${readingText(x)} at ${clockText(ctx, x.r.ms)}`).join(' then ');
-        return yes(last.r.ms, run.map((x) => x.r.row.id), `hypotension persists after fluids (${ended}): ${what}`);
+        return yes(
+          last.r.ms,
+          run.map((x) => x.r.row.id),
+          `hypotension persists after fluids (${ended}): ${what}`,
+        );
       }
       const ids = readings.map((x) => x.r.row.id);
       if (ctx.atMs < closeMs) {
@@ -219,16 +233,31 @@ export function evalPredicate(ctx: EvalContext, p: Predicate): PredicateResult {
       const yeses = results.filter((r) => r.state === 'yes').sort((a, b) => a.sinceMs! - b.sinceMs!);
       if (yeses.length > 0) return yeses[0]!;
       const unknowns = results.filter((r) => r.state === 'unknown');
-      if (unknowns.length > 0) return unknown(results.map((r) => r.text).join('; '), unknowns.flatMap((r) => r.rowIds));
-      return no(results.map((r) => r.text).join('; '), results.flatMap((r) => r.rowIds));
+      if (unknowns.length > 0)
+        return unknown(
+          results.map((r) => r.text).join('; '),
+          unknowns.flatMap((r) => r.rowIds),
+        );
+      return no(
+        results.map((r) => r.text).join('; '),
+        results.flatMap((r) => r.rowIds),
+      );
     }
 
     case 'all': {
       const results = p.of.map((q) => evalPredicate(ctx, q));
       const nos = results.filter((r) => r.state === 'no');
-      if (nos.length > 0) return no(nos.map((r) => r.text).join('; '), nos.flatMap((r) => r.rowIds));
+      if (nos.length > 0)
+        return no(
+          nos.map((r) => r.text).join('; '),
+          nos.flatMap((r) => r.rowIds),
+        );
       const unknowns = results.filter((r) => r.state === 'unknown');
-      if (unknowns.length > 0) return unknown(unknowns.map((r) => r.text).join('; '), unknowns.flatMap((r) => r.rowIds));
+      if (unknowns.length > 0)
+        return unknown(
+          unknowns.map((r) => r.text).join('; '),
+          unknowns.flatMap((r) => r.rowIds),
+        );
       const since = Math.max(...results.map((r) => r.sinceMs!));
       return yes(since, [...new Set(results.flatMap((r) => r.rowIds))], results.map((r) => r.text).join('; '));
     }

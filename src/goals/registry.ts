@@ -19,7 +19,10 @@ export const DEFAULT_SET_IDS: readonly string[] = ['ssc-hour1', 'sep1', 'ssc2021
 export const CUSTOM_SET_ID = 'custom';
 
 export class UnknownGoalSetError extends Error {
-  constructor(readonly setId: string, known: readonly string[]) {
+  constructor(
+    readonly setId: string,
+    known: readonly string[],
+  ) {
     super(`Unknown goal set "${setId}"; known sets: ${[...known, CUSTOM_SET_ID].join(', ')}`);
     this.name = 'UnknownGoalSetError';
   }

@@ -96,12 +96,19 @@ function cellDetail(ctx: EvalContext, r: TimedRow, key: string, named: boolean):
 }
 
 /** The earliest row from `fromMs` with one of `keys` (compared with `value` when given); ties go to the first key. */
-function firstWith(ctx: EvalContext, fromMs: number, keys: readonly string[], op?: '>' | '>=' | '<' | '<=', value?: number): { r: TimedRow; key: string } | undefined {
+function firstWith(
+  ctx: EvalContext,
+  fromMs: number,
+  keys: readonly string[],
+  op?: '>' | '>=' | '<' | '<=',
+  value?: number,
+): { r: TimedRow; key: string } | undefined {
   let best: { r: TimedRow; key: string } | undefined;
   for (const key of keys) {
-    const r = op !== undefined && value !== undefined
-      ? series(ctx, key, fromMs).find((x) => compare(x.v, op, value))?.r
-      : present(ctx, key, fromMs)[0];
+    const r =
+      op !== undefined && value !== undefined
+        ? series(ctx, key, fromMs).find((x) => compare(x.v, op, value))?.r
+        : present(ctx, key, fromMs)[0];
     if (r && (!best || r.ms < best.r.ms)) best = { r, key };
   }
   return best;
@@ -134,7 +141,8 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
       let after = '';
       if (rule.notBefore) {
         const p = evalPredicate(ctx, rule.notBefore);
-        if (p.state === 'unknown') return { noData: capital(p.text), holdsNow: false, text: capital(p.text), supportRowIds: [], failRowIds: [] };
+        if (p.state === 'unknown')
+          return { noData: capital(p.text), holdsNow: false, text: capital(p.text), supportRowIds: [], failRowIds: [] };
         if (p.state === 'no') {
           return { holdsNow: false, text: `${capital(rule.event)} counts only after this: ${p.text}`, supportRowIds: [], failRowIds: [] };
         }
@@ -142,7 +150,8 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
         after = `counts only after this: ${p.text}`;
       }
       const hit = firstWith(ctx, from, rule.keys, rule.op, rule.value);
-      if (!hit) return { holdsNow: false, text: `No ${rule.event} charted yet${after ? ` (${after})` : ''}`, supportRowIds: [], failRowIds: [] };
+      if (!hit)
+        return { holdsNow: false, text: `No ${rule.event} charted yet${after ? ` (${after})` : ''}`, supportRowIds: [], failRowIds: [] };
       return {
         doneMs: hit.r.ms,
         holdsNow: true,
@@ -195,9 +204,19 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
         weightExplanation: w ? w.explanation : null,
       };
       const basis = w ? `${rule.mlPerKg} mL/kg × ${Number(w.kg.toFixed(1))} kg, ${w.explanation}` : `${rule.mlPerKg} mL/kg`;
-      const progress = w ? `${mlText(v.givenMl)} of ${mlText(v.targetMl!)} (${basis})` : `${mlText(v.givenMl)} so far; no weight for the per-kg volume`;
+      const progress = w
+        ? `${mlText(v.givenMl)} of ${mlText(v.targetMl!)} (${basis})`
+        : `${mlText(v.givenMl)} so far; no weight for the per-kg volume`;
       if (rule.satisfiedBy === 'completed') {
-        if (!w) return { noData: `No weight, so ${rule.mlPerKg} mL/kg cannot be worked out`, holdsNow: false, text: `No weight, so ${rule.mlPerKg} mL/kg cannot be worked out`, supportRowIds: [], failRowIds: [], volume };
+        if (!w)
+          return {
+            noData: `No weight, so ${rule.mlPerKg} mL/kg cannot be worked out`,
+            holdsNow: false,
+            text: `No weight, so ${rule.mlPerKg} mL/kg cannot be worked out`,
+            supportRowIds: [],
+            failRowIds: [],
+            volume,
+          };
         if (v.reached) {
           return {
             doneMs: v.reached.ms,
@@ -212,9 +231,23 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
         return { holdsNow: false, text: `${progress} charted so far`, supportRowIds: [], failRowIds: [], volume };
       }
       if (v.first) {
-        return { doneMs: v.first.ms, holdsNow: true, text: `Crystalloid started by ${clockText(ctx, v.first.ms)}`, detail: `${progress} so far`, supportRowIds: [v.first.row.id], failRowIds: [], volume };
+        return {
+          doneMs: v.first.ms,
+          holdsNow: true,
+          text: `Crystalloid started by ${clockText(ctx, v.first.ms)}`,
+          detail: `${progress} so far`,
+          supportRowIds: [v.first.row.id],
+          failRowIds: [],
+          volume,
+        };
       }
-      return { holdsNow: false, text: `No crystalloid charted yet (target ${w ? mlText(v.targetMl!) : `${rule.mlPerKg} mL/kg`})`, supportRowIds: [], failRowIds: [], volume };
+      return {
+        holdsNow: false,
+        text: `No crystalloid charted yet (target ${w ? mlText(v.targetMl!) : `${rule.mlPerKg} mL/kg`})`,
+        supportRowIds: [],
+        failRowIds: [],
+        volume,
+      };
     }
 
     case 'repeat-value-within': {
@@ -226,7 +259,8 @@ export function evalRule(ctx: EvalContext, rule: Rule, cond: PredicateResult): R
       }
       const repeat = values.find((x) => x.r.ms > initial.r.ms);
       const first = `${keyWord(rule.key)} ${valueText(rule.key, initial.v)} at ${clockText(ctx, initial.r.ms)}`;
-      if (!repeat) return { holdsNow: false, text: `No ${rule.event} yet (first ${first})`, supportRowIds: [initial.r.row.id], failRowIds: [] };
+      if (!repeat)
+        return { holdsNow: false, text: `No ${rule.event} yet (first ${first})`, supportRowIds: [initial.r.row.id], failRowIds: [] };
       return {
         doneMs: repeat.r.ms,
         holdsNow: true,
@@ -249,14 +283,24 @@ function evalTarget(ctx: EvalContext, rule: Extract<Rule, { kind: 'target' }>, c
   const rangeText = targetRangeText(rule.key, rule.test);
   const since = rule.from === 'condition' ? ` since ${clockText(ctx, from)}` : '';
   const empty: TargetInfo = {
-    key: rule.key, name, unit: keyUnit(rule.key), rangeText,
-    latestValue: null, latestAt: null, latestRowId: null, ageMinutes: null, inRangeNow: null,
-    shareInRange: null, chartedMinutes: 0, count: 0,
+    key: rule.key,
+    name,
+    unit: keyUnit(rule.key),
+    rangeText,
+    latestValue: null,
+    latestAt: null,
+    latestRowId: null,
+    ageMinutes: null,
+    inRangeNow: null,
+    shareInRange: null,
+    chartedMinutes: 0,
+    count: 0,
   };
   if (values.length === 0) {
-    const t = keyUnit(rule.key).includes('/kg') && ctx.ws.weightKg === undefined
-      ? `No weight, so ${keyNoun(rule.key)} cannot be worked out`
-      : `No ${keyNoun(rule.key)} charted${since}`;
+    const t =
+      keyUnit(rule.key).includes('/kg') && ctx.ws.weightKg === undefined
+        ? `No weight, so ${keyNoun(rule.key)} cannot be worked out`
+        : `No ${keyNoun(rule.key)} charted${since}`;
     return { noData: t, holdsNow: false, text: t, supportRowIds: [], failRowIds: [], target: empty };
   }
   const test = rule.test;
@@ -265,8 +309,20 @@ function evalTarget(ctx: EvalContext, rule: Extract<Rule, { kind: 'target' }>, c
     const t = `Only one ${keyWord(rule.key)} (${valueText(rule.key, ref)} at ${clockText(ctx, values[0]!.r.ms)}); a second is needed to see the trend`;
     const latest = values[0]!;
     return {
-      noData: t, holdsNow: false, text: t, supportRowIds: [latest.r.row.id], failRowIds: [],
-      target: { ...empty, latestValue: latest.v, latestAt: latest.r.row.time, latestRowId: latest.r.row.id, ageMinutes: minutesBetween(latest.r.ms, ctx.atMs), inRangeNow: false, count: 1 },
+      noData: t,
+      holdsNow: false,
+      text: t,
+      supportRowIds: [latest.r.row.id],
+      failRowIds: [],
+      target: {
+        ...empty,
+        latestValue: latest.v,
+        latestAt: latest.r.row.time,
+        latestRowId: latest.r.row.id,
+        ageMinutes: minutesBetween(latest.r.ms, ctx.atMs),
+        inRangeNow: false,
+        count: 1,
+      },
     };
   }
   const inRange = (v: number): boolean => {

@@ -13,7 +13,11 @@ import { MeasureKey } from '../sheet/model.js';
 export const Comparison = z.enum(['>', '>=', '<', '<=']);
 export type Comparison = z.infer<typeof Comparison>;
 
-const Minutes = z.number().int().min(0).max(7 * 24 * 60);
+const Minutes = z
+  .number()
+  .int()
+  .min(0)
+  .max(7 * 24 * 60);
 const Keys = z.array(MeasureKey).min(1).max(20);
 
 // --- Conditions (predicates) -----------------------------------------------------------------
@@ -244,17 +248,19 @@ export const GoalDef = z.strictObject({
 });
 export type GoalDef = z.infer<typeof GoalDef>;
 
-export const GoalSetDef = z.strictObject({
-  id: z.string().regex(/^[a-z][a-z0-9-]{0,39}$/),
-  /** Version of the published source, e.g. "2018" or "v5.3". */
-  version: z.string().min(1).max(40),
-  title: z.string().min(1).max(120),
-  source: z.string().min(1).max(400),
-  goals: z.array(GoalDef).min(1).max(50),
-}).refine((s) => new Set(s.goals.map((g) => g.id)).size === s.goals.length, {
-  error: 'goal ids within a set must be unique',
-  path: ['goals'],
-});
+export const GoalSetDef = z
+  .strictObject({
+    id: z.string().regex(/^[a-z][a-z0-9-]{0,39}$/),
+    /** Version of the published source, e.g. "2018" or "v5.3". */
+    version: z.string().min(1).max(40),
+    title: z.string().min(1).max(120),
+    source: z.string().min(1).max(400),
+    goals: z.array(GoalDef).min(1).max(50),
+  })
+  .refine((s) => new Set(s.goals.map((g) => g.id)).size === s.goals.length, {
+    error: 'goal ids within a set must be unique',
+    path: ['goals'],
+  });
 export type GoalSetDef = z.infer<typeof GoalSetDef>;
 
 /** Statuses (design.md, Goals). */

@@ -62,7 +62,8 @@ export function sep1SirsCriteria(v: Sep1Values): { criterion: Sep1SirsCriterion;
     out.push({ criterion: 'temp', reason: `temperature ${v.temp} °C (> ${s.tempAbove} or < ${s.tempBelow.toFixed(1)})` });
   }
   if (v.hr !== undefined && compare(v.hr, '>', s.hrAbove)) out.push({ criterion: 'hr', reason: `heart rate ${v.hr} (> ${s.hrAbove})` });
-  if (v.rr !== undefined && compare(v.rr, '>', s.rrAbove)) out.push({ criterion: 'rr', reason: `respiratory rate ${v.rr} (> ${s.rrAbove})` });
+  if (v.rr !== undefined && compare(v.rr, '>', s.rrAbove))
+    out.push({ criterion: 'rr', reason: `respiratory rate ${v.rr} (> ${s.rrAbove})` });
   if (v.wbc !== undefined && (compare(v.wbc, '>', s.wbcAbove) || compare(v.wbc, '<', s.wbcBelow))) {
     out.push({ criterion: 'wbc', reason: `white cells ${v.wbc} ×10³/µL (> ${s.wbcAbove} or < ${s.wbcBelow})` });
   }
@@ -77,15 +78,20 @@ export function sep1OrganCriteria(v: Sep1Values, baselineSbp?: number): { criter
   const out: { criterion: Sep1OrganCriterion; reason: string }[] = [];
   const o = SEP1_ORGAN;
   if (v.sbp !== undefined && compare(v.sbp, '<', o.sbpBelow)) out.push({ criterion: 'sbp', reason: `SBP ${v.sbp} (< ${o.sbpBelow})` });
-  if (v.map !== undefined && compare(v.map, '<', o.mapBelow)) out.push({ criterion: 'map', reason: `MAP ${Math.round(v.map)} (< ${o.mapBelow})` });
+  if (v.map !== undefined && compare(v.map, '<', o.mapBelow))
+    out.push({ criterion: 'map', reason: `MAP ${Math.round(v.map)} (< ${o.mapBelow})` });
   if (v.sbp !== undefined && baselineSbp !== undefined && compare(baselineSbp - v.sbp, '>', o.sbpDropAbove)) {
     out.push({ criterion: 'sbp-drop', reason: `SBP ${v.sbp}, ${baselineSbp - v.sbp} under baseline ${baselineSbp} (> ${o.sbpDropAbove})` });
   }
-  if (v.creatinine !== undefined && compare(v.creatinine, '>', o.creatinineAbove)) out.push({ criterion: 'creatinine', reason: `creatinine ${v.creatinine} mg/dL (> ${o.creatinineAbove.toFixed(1)})` });
-  if (v.bilirubin !== undefined && compare(v.bilirubin, '>', o.bilirubinAbove)) out.push({ criterion: 'bilirubin', reason: `bilirubin ${v.bilirubin} mg/dL (> ${o.bilirubinAbove})` });
-  if (v.platelets !== undefined && compare(v.platelets, '<', o.plateletsBelow)) out.push({ criterion: 'platelets', reason: `platelets ${v.platelets} ×10³/µL (< ${o.plateletsBelow})` });
+  if (v.creatinine !== undefined && compare(v.creatinine, '>', o.creatinineAbove))
+    out.push({ criterion: 'creatinine', reason: `creatinine ${v.creatinine} mg/dL (> ${o.creatinineAbove.toFixed(1)})` });
+  if (v.bilirubin !== undefined && compare(v.bilirubin, '>', o.bilirubinAbove))
+    out.push({ criterion: 'bilirubin', reason: `bilirubin ${v.bilirubin} mg/dL (> ${o.bilirubinAbove})` });
+  if (v.platelets !== undefined && compare(v.platelets, '<', o.plateletsBelow))
+    out.push({ criterion: 'platelets', reason: `platelets ${v.platelets} ×10³/µL (< ${o.plateletsBelow})` });
   if (v.inr !== undefined && compare(v.inr, '>', o.inrAbove)) out.push({ criterion: 'inr', reason: `INR ${v.inr} (> ${o.inrAbove})` });
-  if (v.lactate !== undefined && compare(v.lactate, '>', o.lactateAbove)) out.push({ criterion: 'lactate', reason: `lactate ${v.lactate} mmol/L (> ${o.lactateAbove})` });
+  if (v.lactate !== undefined && compare(v.lactate, '>', o.lactateAbove))
+    out.push({ criterion: 'lactate', reason: `lactate ${v.lactate} mmol/L (> ${o.lactateAbove})` });
   return out;
 }
 
@@ -116,7 +122,8 @@ export function sep1Oliguria(intervals: readonly UrineInterval[]): { rowId: stri
         runIds = [];
       }
       runIds.push(u.rowId);
-      if (u.endMs - runStart >= SEP1_ORGAN.urineHours * 3_600_000) out.push({ rowId: u.rowId, ms: u.endMs, runStartMs: runStart, rowIds: [...runIds] });
+      if (u.endMs - runStart >= SEP1_ORGAN.urineHours * 3_600_000)
+        out.push({ rowId: u.rowId, ms: u.endMs, runStartMs: runStart, rowIds: [...runIds] });
     } else {
       runStart = undefined;
       runIds = [];

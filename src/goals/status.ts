@@ -57,7 +57,11 @@ export interface GoalStatus {
 }
 
 /** Fields every status starts from. */
-export function baseStatus(set: Pick<GoalSetDef, 'id' | 'title'>, goal: Pick<GoalDef, 'id' | 'label' | 'source' | 'version' | 'appliesWhen' | 'decision'>, kind: GoalStatus['kind']): GoalStatus {
+export function baseStatus(
+  set: Pick<GoalSetDef, 'id' | 'title'>,
+  goal: Pick<GoalDef, 'id' | 'label' | 'source' | 'version' | 'appliesWhen' | 'decision'>,
+  kind: GoalStatus['kind'],
+): GoalStatus {
   return {
     id: `${set.id}.${goal.id}`,
     setId: set.id,
@@ -170,4 +174,3 @@ export function decide(ctx: EvalContext, out: GoalStatus, facts: RuleFacts, dead
   }
   return out;
 }
-

@@ -18,13 +18,7 @@ import { MINUTE_MS, toInstant } from '../sheet/clock.js';
 import type { TimeZeroBasis, Worksheet } from '../sheet/model.js';
 import { clockText, makeContext, num, timedRows, type EvalContext } from './context.js';
 import { evalPredicate } from './predicates.js';
-import {
-  sep1Oliguria,
-  sep1OrganCriteria,
-  sep1SirsCriteria,
-  type Sep1Values,
-  type UrineInterval,
-} from './sep1-criteria.js';
+import { sep1Oliguria, sep1OrganCriteria, sep1SirsCriteria, type Sep1Values, type UrineInterval } from './sep1-criteria.js';
 import { SEP1_INITIAL_LACTATE_4, SEP1_PERSISTENT_HYPOTENSION } from './sets/sep1.js';
 
 export const SEP1_WINDOW_MINUTES = 360;
@@ -69,8 +63,17 @@ interface Event extends CriterionHit {
 function valuesOf(ctx: EvalContext, r: ReturnType<typeof timedRows>[number]): Sep1Values {
   const k = (key: string): number | undefined => num(ctx, r, key);
   return {
-    temp: k('temp'), hr: k('hr'), rr: k('rr'), wbc: k('wbc'), sbp: k('sbp'), map: k('map'),
-    creatinine: k('creatinine'), bilirubin: k('bilirubin'), platelets: k('platelets'), inr: k('inr'), lactate: k('lactate'),
+    temp: k('temp'),
+    hr: k('hr'),
+    rr: k('rr'),
+    wbc: k('wbc'),
+    sbp: k('sbp'),
+    map: k('map'),
+    creatinine: k('creatinine'),
+    bilirubin: k('bilirubin'),
+    platelets: k('platelets'),
+    inr: k('inr'),
+    lactate: k('lactate'),
   };
 }
 
@@ -82,10 +85,17 @@ export function sep1CriterionEvents(ctx: EvalContext): Event[] {
     const time = r.row.time;
     const base = { rowId: r.row.id, time, ms: r.ms, offset: r.row.offset };
     const mark = r.row.cells['infection_suspected'];
-    if (mark) events.push({ ...base, group: 'infection', criterion: 'infection', reason: `infection suspected${mark.text ? ` (${mark.text})` : ''}` });
+    if (mark)
+      events.push({
+        ...base,
+        group: 'infection',
+        criterion: 'infection',
+        reason: `infection suspected${mark.text ? ` (${mark.text})` : ''}`,
+      });
     const v = valuesOf(ctx, r);
     for (const s of sep1SirsCriteria(v)) events.push({ ...base, group: 'sirs', criterion: `sirs:${s.criterion}`, reason: s.reason });
-    for (const o of sep1OrganCriteria(v, ctx.ws.baselineSbp)) events.push({ ...base, group: 'organ', criterion: `organ:${o.criterion}`, reason: o.reason });
+    for (const o of sep1OrganCriteria(v, ctx.ws.baselineSbp))
+      events.push({ ...base, group: 'organ', criterion: `organ:${o.criterion}`, reason: o.reason });
     const rate = num(ctx, r, 'uo_ml_kg_h');
     if (rate !== undefined && r.prevMs !== undefined) urine.push({ rowId: r.row.id, endMs: r.ms, startMs: r.prevMs, rate });
   }
@@ -93,7 +103,12 @@ export function sep1CriterionEvents(ctx: EvalContext): Event[] {
   for (const o of sep1Oliguria(urine)) {
     const r = byId.get(o.rowId)!;
     events.push({
-      rowId: o.rowId, time: r.row.time, ms: o.ms, offset: r.row.offset, group: 'organ', criterion: 'organ:urine',
+      rowId: o.rowId,
+      time: r.row.time,
+      ms: o.ms,
+      offset: r.row.offset,
+      group: 'organ',
+      criterion: 'organ:urine',
       reason: `urine output below 0.5 mL/kg/h since ${clockText(ctx, o.runStartMs)} (2 h or more)`,
     });
   }
@@ -138,7 +153,12 @@ function severeSepsis(ctx: EvalContext): { suggestion: TimeZeroSuggestion | null
   };
 }
 
-function septicShock(ws: Worksheet, atMs: number, baseMs: number, baseWords: string): { suggestion: TimeZeroSuggestion | null; note?: string } {
+function septicShock(
+  ws: Worksheet,
+  atMs: number,
+  baseMs: number,
+  baseWords: string,
+): { suggestion: TimeZeroSuggestion | null; note?: string } {
   const ctx = makeContext(ws, atMs, baseMs);
   const limit = baseMs + SEP1_WINDOW_MINUTES * MINUTE_MS;
   const candidates: { ms: number; rowIds: string[]; reason: string; criterion: string }[] = [];
@@ -156,7 +176,10 @@ function septicShock(ws: Worksheet, atMs: number, baseMs: number, baseWords: str
   candidates.sort((a, b) => a.ms - b.ms);
   const c = candidates[0]!;
   const rows = new Map(ctx.rows.map((r) => [r.row.id, r]));
-  const offsetRow = c.rowIds.map((id) => rows.get(id)).filter((r) => r !== undefined).pop();
+  const offsetRow = c.rowIds
+    .map((id) => rows.get(id))
+    .filter((r) => r !== undefined)
+    .pop();
   return {
     suggestion: {
       kind: 'septic-shock',
@@ -164,7 +187,12 @@ function septicShock(ws: Worksheet, atMs: number, baseMs: number, baseWords: str
       offset: offsetRow?.row.offset ?? ws.displayOffset,
       basis: 'criteria',
       rowIds: c.rowIds,
-      criteria: c.rowIds.map((id) => ({ criterion: c.criterion, reason: c.reason, rowId: id, time: rows.get(id)?.row.time ?? toInstant(c.ms) })),
+      criteria: c.rowIds.map((id) => ({
+        criterion: c.criterion,
+        reason: c.reason,
+        rowId: id,
+        time: rows.get(id)?.row.time ?? toInstant(c.ms),
+      })),
       explanation: `Septic shock presentation (SEP-1) at ${clockText(ctx, c.ms)}: ${c.reason}${c.ms === baseMs ? ` (not earlier than ${baseWords})` : ''}.`,
     },
   };
@@ -195,6 +223,8 @@ export function suggestTimeZero(ws: Worksheet, atMs?: number): TimeZeroSuggestio
   } else {
     notes.push('No septic shock suggestion without a severe sepsis presentation or a time zero.');
   }
-  notes.push('Not modelled: clinician documentation of severe sepsis or shock, the triage-time rule, signs documented as chronic or due to medication, bands and ventilation.');
+  notes.push(
+    'Not modelled: clinician documentation of severe sepsis or shock, the triage-time rule, signs documented as chronic or due to medication, bands and ventilation.',
+  );
   return { severeSepsis: severe.suggestion, septicShock: shock, notes };
 }

@@ -326,7 +326,10 @@ export class TmCustomGoals extends LitElement {
     e.preventDefault();
     const ws = this.worksheet;
     if (!ws) return;
-    const result = checkGoals(this.items.map((i) => i.draft), this.columnKeys());
+    const result = checkGoals(
+      this.items.map((i) => i.draft),
+      this.columnKeys(),
+    );
     if (!result.ok) {
       this.tried = true;
       const bad = result.problems.findIndex((p) => Object.keys(p).length > 0);
@@ -392,12 +395,14 @@ export class TmCustomGoals extends LitElement {
       html`<p class="rows-line" id=${id}><span class="lead">${what}:</span> ${o ? outcomeSummary(o) : waiting}</p>`;
     const lines = html`${hasCondition ? rowsLine('Applies when, on the rows', `cond-rows-${item.uid}`, cond, 'shown once the condition can be read.') : nothing}
     ${rowsLine('Target, on the rows', `target-rows-${item.uid}`, target, 'shown once the target can be read.')}
-    ${numeric(cond) || numeric(target)
-      ? html`<p class="rows-line warning">
+    ${
+      numeric(cond) || numeric(target)
+        ? html`<p class="rows-line warning">
           A formula here gives a number, not true or false; any number other than 0 counts as true. Did you mean a comparison such as
           <code>map >= 65</code>?
         </p>`
-      : nothing}`;
+        : nothing
+    }`;
     if (!target && !cond) return lines;
     const all = (target ?? cond)!;
     const shown = all.slice(-GOAL_PREVIEW_ROWS);
@@ -507,11 +512,13 @@ export class TmCustomGoals extends LitElement {
         Decision support only: goals you write are your own, not a published rule; check them against local protocols and licensed clinical
         judgment.
       </p>
-      ${this.items.length === 0
-        ? html`<p class="empty">This worksheet has no goals of its own yet.</p>`
-        : html`<ul class="items" aria-label="Goals of this worksheet">
+      ${
+        this.items.length === 0
+          ? html`<p class="empty">This worksheet has no goals of its own yet.</p>`
+          : html`<ul class="items" aria-label="Goals of this worksheet">
             ${this.items.map((item, i) => this.itemView(item, problems[i] ?? {}, ids[i] ?? ''))}
-          </ul>`}
+          </ul>`
+      }
       <div class="actions">
         <button type="button" id="add" @click=${this.add}>Add a goal</button>
         <button type="submit" class="primary" id="save">Save goals</button>

@@ -241,26 +241,30 @@ export class TmGoalPanel extends LitElement {
         <span class="time">${time}</span>
         ${g.target ? this.targetLine(g) : html`<span class="set-title">${g.setTitle}</span>`}
       </button>
-      ${this.open === g.id
-        ? html`<dl class="details" id=${detailsId}>
+      ${
+        this.open === g.id
+          ? html`<dl class="details" id=${detailsId}>
             <dt>Why this status</dt>
             <dd>${g.explanation}</dd>
             <dt>Applies when</dt>
             <dd>${g.appliesWhen}</dd>
             ${g.deadlineText ? html`<dt>Deadline</dt><dd>${g.deadlineText}</dd>` : nothing}
-            ${g.volume
-              ? html`<dt>Volume</dt>
+            ${
+              g.volume
+                ? html`<dt>Volume</dt>
                   <dd>
                     ${Math.round(g.volume.givenMl)} mL given${g.volume.targetMl !== null ? ` of ${Math.round(g.volume.targetMl)} mL` : ''}
                     (${g.volume.mlPerKg} mL/kg${g.volume.weightKg !== null ? ` × ${g.volume.weightKg.toFixed(1)} kg` : ''}${g.volume.weightExplanation ? `, ${g.volume.weightExplanation}` : ''})
                   </dd>`
-              : nothing}
+                : nothing
+            }
             ${g.decision ? html`<dt>Tidemark's choice</dt><dd>${g.decision}</dd>` : nothing}
             <dt>Source</dt>
             <dd>${g.source} (${g.version})</dd>
             <dd class="set-title">Goal id ${g.id}. Rows that satisfy it are marked in the worksheet.</dd>
           </dl>`
-        : nothing}
+          : nothing
+      }
     </li>`;
   }
 

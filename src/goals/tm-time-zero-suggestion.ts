@@ -78,11 +78,13 @@ export class TmTimeZeroSuggestion extends LitElement {
         ${s.criteria.map((c) => html`<li>${formatClock(c.time, this.offset)} — ${c.reason}</li>`)}
       </ul>
       <div class="buttons">
-        ${same
-          ? html`<span class="current">✓ This is the time set now.</span>`
-          : html`<button class="primary" @click=${() => this.use(s)}>
+        ${
+          same
+            ? html`<span class="current">✓ This is the time set now.</span>`
+            : html`<button class="primary" @click=${() => this.use(s)}>
               Use ${formatClock(s.time, this.offset)} as ${s.kind === 'severe-sepsis' ? 'time zero' : 'septic shock time'}
-            </button>`}
+            </button>`
+        }
         <button @click=${() => this.dispatchEvent(new HighlightEvent(s.rowIds))}>Show these rows</button>
       </div>
     </div>`;

@@ -22,7 +22,10 @@ export function devineIdealWeight(heightCm: number, sex: 'male' | 'female'): Ide
   const base = sex === 'male' ? 50 : 45.5;
   const kg = base + 2.3 * (inches - 60);
   if (inches < 60) {
-    return { kg: Math.max(kg, 0), warning: 'Height under 5 ft (152.4 cm): the Devine formula is not defined there; check the dosing weight.' };
+    return {
+      kg: Math.max(kg, 0),
+      warning: 'Height under 5 ft (152.4 cm): the Devine formula is not defined there; check the dosing weight.',
+    };
   }
   return { kg };
 }
@@ -74,10 +77,17 @@ export function dosingWeight(ws: Pick<Worksheet, 'weightKg' | 'heightCm' | 'sex'
   }
   const b = bmi(ws.weightKg, ws.heightCm);
   if (!(b > IBW_BMI_THRESHOLD)) {
-    return { ...actual, explanation: `actual body weight (ideal weight is allowed only when BMI > ${IBW_BMI_THRESHOLD}; BMI is ${b.toFixed(1)})` };
+    return {
+      ...actual,
+      explanation: `actual body weight (ideal weight is allowed only when BMI > ${IBW_BMI_THRESHOLD}; BMI is ${b.toFixed(1)})`,
+    };
   }
   const ibw = devineIdealWeight(ws.heightCm, ws.sex);
-  const d: DosingWeight = { kg: ibw.kg, basis: 'ideal', explanation: `Devine ideal body weight (BMI ${b.toFixed(1)} > ${IBW_BMI_THRESHOLD})` };
+  const d: DosingWeight = {
+    kg: ibw.kg,
+    basis: 'ideal',
+    explanation: `Devine ideal body weight (BMI ${b.toFixed(1)} > ${IBW_BMI_THRESHOLD})`,
+  };
   if (ibw.warning) d.warning = ibw.warning;
   return d;
 }

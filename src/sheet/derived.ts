@@ -67,26 +67,171 @@ export const NE_FACTORS: Readonly<Record<string, number>> = {
 };
 
 export const DERIVED_DEFS: readonly DerivedDef[] = [
-  { key: 'map', label: 'Mean arterial pressure (estimated)', short: 'MAP', unit: 'mm[Hg]', unitLabel: 'mmHg', decimals: 0, formula: 'DBP + (SBP − DBP) / 3, when no measured MAP', source: 'common practice, no source (reference file §12)' },
-  { key: 'shock_index', label: 'Shock index', short: 'SI', unit: '{ratio}', unitLabel: '', decimals: 2, formula: 'HR / SBP', source: 'common practice, no source' },
-  { key: 'pulse_pressure', label: 'Pulse pressure', short: 'PP', unit: 'mm[Hg]', unitLabel: 'mmHg', decimals: 0, formula: 'SBP − DBP', source: 'common practice, no source' },
-  { key: 'uo_ml_kg_h', label: 'Urine output rate', short: 'UO', unit: 'mL/kg/h', unitLabel: 'mL/kg/h', decimals: 2, formula: 'urine mL / (weight kg × hours since the previous row)', source: 'common practice, no source (reference file §13)' },
-  { key: 'fluid_total_ml', label: 'Crystalloid since time zero', short: 'Fluid Σ', unit: 'mL', unitLabel: 'mL', decimals: 0, formula: 'sum of crystalloid in rows after time zero (or since the first row when time zero is not set)', source: 'common practice, no source' },
-  { key: 'fluid_ml_kg', label: 'Crystalloid per kg since time zero', short: 'Fluid/kg', unit: 'mL/kg', unitLabel: 'mL/kg', decimals: 1, formula: 'crystalloid since time zero / dosing weight', source: 'SSC 2021 rec. 5 and the hour-1 bundle express the volume per kg' },
-  { key: 'lactate_change_pct', label: 'Lactate change from first', short: 'Lact Δ%', unit: '%', unitLabel: '%', decimals: 1, formula: '100 × (lactate − first lactate) / first lactate (negative = falling), rounded to 12 significant digits', source: 'Nguyen 2004; Jones 2010 (reference file §8), sign reversed so a fall is negative' },
-  { key: 'ne_equivalent', label: 'Norepinephrine equivalent', short: 'NEE', unit: 'ug/kg/min', unitLabel: 'µg/kg/min', decimals: 3, formula: 'NE + epi + phenylephrine/10 + dopamine/100 + vasopressin(U/min) × 2.5 (angiotensin II, × 10 in the source, is not charted in Tidemark)', source: 'Goradia et al., J Crit Care 2021 (reference file §10)' },
-  { key: 'cao2', label: 'Arterial O₂ content', short: 'CaO₂', unit: 'mL/dL', unitLabel: 'mL/dL', decimals: 1, formula: '1.34 × Hb × SaO₂ + 0.003 × PaO₂ (SpO₂ when no SaO₂; dissolved term omitted without PaO₂)', source: 'OpenAnesthesia; physiology texts (reference file §11)' },
-  { key: 'do2', label: 'O₂ delivery', short: 'DO₂', unit: 'mL/min', unitLabel: 'mL/min', decimals: 0, formula: 'CO × CaO₂ × 10', source: 'reference file §11' },
-  { key: 'o2er', label: 'O₂ extraction (estimate)', short: 'O₂ER', unit: '1', unitLabel: '', decimals: 2, formula: '(SaO₂ − ScvO₂) / SaO₂ (SpO₂ when no SaO₂; dissolved O₂ ignored)', source: 'reference file §11: O2ER ≈ SaO2 − SvO2 over SaO2' },
-  { key: 'co2_gap', label: 'Venous-arterial CO₂ gap', short: 'CO₂ gap', unit: 'mm[Hg]', unitLabel: 'mmHg', decimals: 1, formula: 'PcvCO₂ − PaCO₂ (> 6 mmHg suggests low flow)', source: 'Vallée et al.; van Beest et al. (reference file §11)' },
-  { key: 'pf_ratio', label: 'PaO₂/FiO₂', short: 'P/F', unit: 'mm[Hg]', unitLabel: 'mmHg', decimals: 0, formula: 'PaO₂ / FiO₂', source: 'Sepsis-3 Table 1 (SOFA respiration)' },
+  {
+    key: 'map',
+    label: 'Mean arterial pressure (estimated)',
+    short: 'MAP',
+    unit: 'mm[Hg]',
+    unitLabel: 'mmHg',
+    decimals: 0,
+    formula: 'DBP + (SBP − DBP) / 3, when no measured MAP',
+    source: 'common practice, no source (reference file §12)',
+  },
+  {
+    key: 'shock_index',
+    label: 'Shock index',
+    short: 'SI',
+    unit: '{ratio}',
+    unitLabel: '',
+    decimals: 2,
+    formula: 'HR / SBP',
+    source: 'common practice, no source',
+  },
+  {
+    key: 'pulse_pressure',
+    label: 'Pulse pressure',
+    short: 'PP',
+    unit: 'mm[Hg]',
+    unitLabel: 'mmHg',
+    decimals: 0,
+    formula: 'SBP − DBP',
+    source: 'common practice, no source',
+  },
+  {
+    key: 'uo_ml_kg_h',
+    label: 'Urine output rate',
+    short: 'UO',
+    unit: 'mL/kg/h',
+    unitLabel: 'mL/kg/h',
+    decimals: 2,
+    formula: 'urine mL / (weight kg × hours since the previous row)',
+    source: 'common practice, no source (reference file §13)',
+  },
+  {
+    key: 'fluid_total_ml',
+    label: 'Crystalloid since time zero',
+    short: 'Fluid Σ',
+    unit: 'mL',
+    unitLabel: 'mL',
+    decimals: 0,
+    formula: 'sum of crystalloid in rows after time zero (or since the first row when time zero is not set)',
+    source: 'common practice, no source',
+  },
+  {
+    key: 'fluid_ml_kg',
+    label: 'Crystalloid per kg since time zero',
+    short: 'Fluid/kg',
+    unit: 'mL/kg',
+    unitLabel: 'mL/kg',
+    decimals: 1,
+    formula: 'crystalloid since time zero / dosing weight',
+    source: 'SSC 2021 rec. 5 and the hour-1 bundle express the volume per kg',
+  },
+  {
+    key: 'lactate_change_pct',
+    label: 'Lactate change from first',
+    short: 'Lact Δ%',
+    unit: '%',
+    unitLabel: '%',
+    decimals: 1,
+    formula: '100 × (lactate − first lactate) / first lactate (negative = falling), rounded to 12 significant digits',
+    source: 'Nguyen 2004; Jones 2010 (reference file §8), sign reversed so a fall is negative',
+  },
+  {
+    key: 'ne_equivalent',
+    label: 'Norepinephrine equivalent',
+    short: 'NEE',
+    unit: 'ug/kg/min',
+    unitLabel: 'µg/kg/min',
+    decimals: 3,
+    formula:
+      'NE + epi + phenylephrine/10 + dopamine/100 + vasopressin(U/min) × 2.5 (angiotensin II, × 10 in the source, is not charted in Tidemark)',
+    source: 'Goradia et al., J Crit Care 2021 (reference file §10)',
+  },
+  {
+    key: 'cao2',
+    label: 'Arterial O₂ content',
+    short: 'CaO₂',
+    unit: 'mL/dL',
+    unitLabel: 'mL/dL',
+    decimals: 1,
+    formula: '1.34 × Hb × SaO₂ + 0.003 × PaO₂ (SpO₂ when no SaO₂; dissolved term omitted without PaO₂)',
+    source: 'OpenAnesthesia; physiology texts (reference file §11)',
+  },
+  {
+    key: 'do2',
+    label: 'O₂ delivery',
+    short: 'DO₂',
+    unit: 'mL/min',
+    unitLabel: 'mL/min',
+    decimals: 0,
+    formula: 'CO × CaO₂ × 10',
+    source: 'reference file §11',
+  },
+  {
+    key: 'o2er',
+    label: 'O₂ extraction (estimate)',
+    short: 'O₂ER',
+    unit: '1',
+    unitLabel: '',
+    decimals: 2,
+    formula: '(SaO₂ − ScvO₂) / SaO₂ (SpO₂ when no SaO₂; dissolved O₂ ignored)',
+    source: 'reference file §11: O2ER ≈ SaO2 − SvO2 over SaO2',
+  },
+  {
+    key: 'co2_gap',
+    label: 'Venous-arterial CO₂ gap',
+    short: 'CO₂ gap',
+    unit: 'mm[Hg]',
+    unitLabel: 'mmHg',
+    decimals: 1,
+    formula: 'PcvCO₂ − PaCO₂ (> 6 mmHg suggests low flow)',
+    source: 'Vallée et al.; van Beest et al. (reference file §11)',
+  },
+  {
+    key: 'pf_ratio',
+    label: 'PaO₂/FiO₂',
+    short: 'P/F',
+    unit: 'mm[Hg]',
+    unitLabel: 'mmHg',
+    decimals: 0,
+    formula: 'PaO₂ / FiO₂',
+    source: 'Sepsis-3 Table 1 (SOFA respiration)',
+  },
 ];
 
 /** Scores, shown like derived measures (computed by deriveAll, not deriveWorksheet). */
 export const SCORE_DEFS: readonly DerivedDef[] = [
-  { key: 'sofa', label: 'SOFA score (24 h)', short: 'SOFA', unit: '{score}', unitLabel: 'points', decimals: 0, formula: 'sum of six organ parts from the worst values of the preceding 24 h; lists missing parts', source: 'Sepsis-3 Table 1 (Singer et al., JAMA 2016), adapted from Vincent et al. 1996' },
-  { key: 'qsofa', label: 'qSOFA (24 h)', short: 'qSOFA', unit: '{score}', unitLabel: 'points', decimals: 0, formula: 'RR ≥ 22, SBP ≤ 100, GCS < 15: one point each; positive at ≥ 2', source: 'Sepsis-3 (Singer et al., JAMA 2016); GCS < 15 from Seymour et al. 2016' },
-  { key: 'sirs', label: 'SIRS criteria (24 h)', short: 'SIRS', unit: '{score}', unitLabel: 'criteria', decimals: 0, formula: 'temperature > 38.0 or < 36.0 °C; HR > 90; RR > 20 or PaCO₂ < 32; WBC > 12 or < 4 ×10³/µL (SEP-1 variant: > 38.3 °C, RR only)', source: 'Bone et al., Chest 1992; SEP-1 specifications manual' },
+  {
+    key: 'sofa',
+    label: 'SOFA score (24 h)',
+    short: 'SOFA',
+    unit: '{score}',
+    unitLabel: 'points',
+    decimals: 0,
+    formula: 'sum of six organ parts from the worst values of the preceding 24 h; lists missing parts',
+    source: 'Sepsis-3 Table 1 (Singer et al., JAMA 2016), adapted from Vincent et al. 1996',
+  },
+  {
+    key: 'qsofa',
+    label: 'qSOFA (24 h)',
+    short: 'qSOFA',
+    unit: '{score}',
+    unitLabel: 'points',
+    decimals: 0,
+    formula: 'RR ≥ 22, SBP ≤ 100, GCS < 15: one point each; positive at ≥ 2',
+    source: 'Sepsis-3 (Singer et al., JAMA 2016); GCS < 15 from Seymour et al. 2016',
+  },
+  {
+    key: 'sirs',
+    label: 'SIRS criteria (24 h)',
+    short: 'SIRS',
+    unit: '{score}',
+    unitLabel: 'criteria',
+    decimals: 0,
+    formula: 'temperature > 38.0 or < 36.0 °C; HR > 90; RR > 20 or PaCO₂ < 32; WBC > 12 or < 4 ×10³/µL (SEP-1 variant: > 38.3 °C, RR only)',
+    source: 'Bone et al., Chest 1992; SEP-1 specifications manual',
+  },
 ];
 
 export const DERIVED: ReadonlyMap<string, DerivedDef> = new Map(DERIVED_DEFS.map((d) => [d.key, d]));
@@ -127,7 +272,19 @@ export const BUILT_IN_INPUTS: Readonly<Record<string, { inputs: readonly string[
 
 /** Keys the scores read (charted or built-in derived). */
 export const SCORE_INPUTS: readonly string[] = [
-  'pf_ratio', 'platelets', 'bilirubin', 'map', 'gcs', 'creatinine', 'uo_ml', 'sbp', 'rr', 'hr', 'temp', 'wbc', 'paco2',
+  'pf_ratio',
+  'platelets',
+  'bilirubin',
+  'map',
+  'gcs',
+  'creatinine',
+  'uo_ml',
+  'sbp',
+  'rr',
+  'hr',
+  'temp',
+  'wbc',
+  'paco2',
 ];
 /** Catecholamines the SOFA cardiovascular part reads (carried forward, so they reach later rows). */
 export const SCORE_DRUG_INPUTS: readonly string[] = ['dopamine', 'dobutamine', 'epinephrine', 'norepinephrine'];
@@ -344,7 +501,8 @@ export function compileColumns(columns: readonly DerivedColumn[]): ColumnPlan {
     }
     const r = compileFormula(column.expression, { columns: keys });
     if (!r.ok) {
-      errors[column.key] = r.position === undefined ? { key: column.key, message: r.error } : { key: column.key, message: r.error, position: r.position };
+      errors[column.key] =
+        r.position === undefined ? { key: column.key, message: r.error } : { key: column.key, message: r.error, position: r.position };
       continue;
     }
     const dependsOn = [...r.formula.rowKeys].filter((k) => keys.includes(k));
@@ -364,7 +522,8 @@ export function compileColumns(columns: readonly DerivedColumn[]): ColumnPlan {
     if (s === 'visiting') {
       const loop = [...stack.slice(stack.indexOf(key)), key];
       const text = loop.join(' → ');
-      for (const k of loop) errors[k] ??= { key: k, message: `Dependency loop: ${text}. A column cannot depend on itself, directly or through others.` };
+      for (const k of loop)
+        errors[k] ??= { key: k, message: `Dependency loop: ${text}. A column cannot depend on itself, directly or through others.` };
       return false;
     }
     state.set(key, 'visiting');
@@ -412,9 +571,17 @@ export interface Derivation {
 /** Everything besides cells that a derivation depends on (see `Derivation.basis`). */
 export function basisOf(ws: Worksheet, options: DeriveOptions = {}): string {
   return JSON.stringify([
-    ws.weightKg ?? null, ws.heightCm ?? null, ws.sex ?? null, ws.useIdealWeight, ws.baselineSbp ?? null,
-    ws.timeZero?.time ?? null, ws.derivedColumns, options.windowHours ?? DEFAULT_WINDOW_HOURS,
-    options.sirsCriteria ?? 'bone1992', options.respiratorySupport ?? null, options.catecholamineMinHours ?? 1,
+    ws.weightKg ?? null,
+    ws.heightCm ?? null,
+    ws.sex ?? null,
+    ws.useIdealWeight,
+    ws.baselineSbp ?? null,
+    ws.timeZero?.time ?? null,
+    ws.derivedColumns,
+    options.windowHours ?? DEFAULT_WINDOW_HOURS,
+    options.sirsCriteria ?? 'bone1992',
+    options.respiratorySupport ?? null,
+    options.catecholamineMinHours ?? 1,
   ]);
 }
 
@@ -589,7 +756,11 @@ function computeRows(ws: Worksheet, plan: ColumnPlan, options: DeriveOptions, ou
   for (let i = lo; i <= hi; i++) {
     const r = out[i]!;
     r.scores = scoresAt(scoreInput, i, options, scanner);
-    for (const [key, s] of [['sofa', r.scores.sofa], ['qsofa', r.scores.qsofa], ['sirs', r.scores.sirs]] as const) {
+    for (const [key, s] of [
+      ['sofa', r.scores.sofa],
+      ['qsofa', r.scores.qsofa],
+      ['sirs', r.scores.sirs],
+    ] as const) {
       if (Object.keys(s.parts).length > 0) r.values[key] = s.score;
     }
   }
@@ -631,7 +802,12 @@ export interface CellChange {
  * The rows an edit of `change.key` at `change.rowIndex` can reach, by the rules in this
  * module's header: an inclusive range `[from, to]` of row positions.
  */
-export function affectedRows(ws: Worksheet, plan: ColumnPlan, change: CellChange, options: DeriveOptions = {}): { from: number; to: number } {
+export function affectedRows(
+  ws: Worksheet,
+  plan: ColumnPlan,
+  change: CellChange,
+  options: DeriveOptions = {},
+): { from: number; to: number } {
   const n = ws.rows.length;
   const i = change.rowIndex;
   let from = i;

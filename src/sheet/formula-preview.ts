@@ -13,7 +13,16 @@
  */
 import { formatDateTime } from './time.js';
 import { compileColumns, DERIVED_DEFS, deriveAll, evaluateAtRows, SCORE_DEFS, tidy, type ColumnPlan, type Derivation } from './derived.js';
-import { ALLOWED_FUNCTIONS, compileFormula, FACTS, HELPERS, MAX_FORMULA_LENGTH, reservedNameReason, type CompiledFormula, type EvalResult } from './formula-engine.js';
+import {
+  ALLOWED_FUNCTIONS,
+  compileFormula,
+  FACTS,
+  HELPERS,
+  MAX_FORMULA_LENGTH,
+  reservedNameReason,
+  type CompiledFormula,
+  type EvalResult,
+} from './formula-engine.js';
 import { MEASURE_KEYS, MEASURES } from './measures.js';
 import { CustomGoal, DerivedColumn, MeasureKey, type Worksheet } from './model.js';
 
@@ -109,7 +118,10 @@ function outcomeOf(ws: Worksheet, i: number, r: EvalResult, t0Ms: number | undef
 function timeOrdered(ws: Worksheet): Worksheet {
   const sorted = ws.rows.every((r, i) => i === 0 || ws.rows[i - 1]!.time <= r.time);
   if (sorted) return ws;
-  const rows = ws.rows.map((row, i) => ({ row, i })).sort((a, b) => (a.row.time < b.row.time ? -1 : a.row.time > b.row.time ? 1 : a.i - b.i)).map((x) => x.row);
+  const rows = ws.rows
+    .map((row, i) => ({ row, i }))
+    .sort((a, b) => (a.row.time < b.row.time ? -1 : a.row.time > b.row.time ? 1 : a.i - b.i))
+    .map((x) => x.row);
   return { ...ws, rows };
 }
 
@@ -186,7 +198,11 @@ export function previewColumns(ws: Worksheet, base: Derivation, drafts: readonly
     else if (label.length > 80) p.label = { message: `The label is ${label.length} characters; the limit is 80.` };
     if (d.unit.trim().length > 40) p.unit = { message: `The unit is ${d.unit.trim().length} characters; the limit is 40.` };
   });
-  const columns: DerivedColumn[] = drafts.map((d, i) => ({ key: compiledKeys[i]!, label: d.label.trim() || compiledKeys[i]!, expression: d.expression }));
+  const columns: DerivedColumn[] = drafts.map((d, i) => ({
+    key: compiledKeys[i]!,
+    label: d.label.trim() || compiledKeys[i]!,
+    expression: d.expression,
+  }));
   const plan = compileColumns(columns);
   drafts.forEach((d, i) => {
     const err = plan.errors[compiledKeys[i]!];
@@ -235,7 +251,12 @@ export function checkColumns(preview: ColumnsPreview, drafts: readonly ColumnDra
     if (d.unit.trim()) c.unit = d.unit.trim();
     const parsed = DerivedColumn.safeParse(c);
     if (!parsed.success) {
-      return { ok: false, problems: drafts.map((x) => (x === d ? { expression: { message: parsed.error.issues[0]?.message ?? 'This column cannot be saved.' } } : {})) };
+      return {
+        ok: false,
+        problems: drafts.map((x) =>
+          x === d ? { expression: { message: parsed.error.issues[0]?.message ?? 'This column cannot be saved.' } } : {},
+        ),
+      };
     }
     columns.push(parsed.data);
   }
@@ -257,7 +278,13 @@ export interface GoalDraft {
 export type GoalField = keyof GoalDraft;
 
 export function goalDraftOf(g: CustomGoal): GoalDraft {
-  return { id: g.id, label: g.label, condition: g.condition ?? '', target: g.target, deadline: g.deadlineMinutes === undefined ? '' : String(g.deadlineMinutes) };
+  return {
+    id: g.id,
+    label: g.label,
+    condition: g.condition ?? '',
+    target: g.target,
+    deadline: g.deadlineMinutes === undefined ? '' : String(g.deadlineMinutes),
+  };
 }
 
 const GOAL_ID = /^[a-z][a-z0-9-]{0,39}$/;
@@ -269,7 +296,10 @@ export const MAX_DEADLINE_MINUTES = 7 * 24 * 60;
  * at most 40 characters, and not one of `taken` ("MAP ≥ 65 by 6 h" → "map-65-by-6-h").
  */
 export function goalIdFromLabel(label: string, taken: readonly string[] = []): string {
-  const plain = label.normalize('NFKD').replace(/[\u0300-\u036f]/g, '').toLowerCase();
+  const plain = label
+    .normalize('NFKD')
+    .replace(/[\u0300-\u036f]/g, '')
+    .toLowerCase();
   let id = plain.replace(/[^a-z0-9]+/g, '-').replace(/^-+|-+$/g, '');
   if (!/^[a-z]/.test(id)) id = id ? `goal-${id}` : 'goal';
   id = id.slice(0, 40).replace(/-+$/, '');
@@ -298,7 +328,14 @@ export type FormulaCheck = { ok: true; formula: CompiledFormula } | { ok: false;
 /** Compiles a goal formula with the worksheet's own column keys allowed. */
 export function checkFormula(text: string, columnKeys: readonly string[]): FormulaCheck {
   if (text.trim() === '') return { ok: false, problem: { message: 'Write the formula, for example map >= 65.' } };
-  if (text.length > MAX_FORMULA_LENGTH) return { ok: false, problem: { message: `The formula is ${text.length} characters long; the limit is ${MAX_FORMULA_LENGTH}.`, position: MAX_FORMULA_LENGTH + 1 } };
+  if (text.length > MAX_FORMULA_LENGTH)
+    return {
+      ok: false,
+      problem: {
+        message: `The formula is ${text.length} characters long; the limit is ${MAX_FORMULA_LENGTH}.`,
+        position: MAX_FORMULA_LENGTH + 1,
+      },
+    };
   const r = compileFormula(text, { columns: columnKeys });
   if (r.ok) return { ok: true, formula: r.formula };
   return { ok: false, problem: r.position === undefined ? { message: r.error } : { message: r.error, position: r.position } };
@@ -322,9 +359,14 @@ export function goalDerivation(ws: Worksheet): Derivation {
 export function parseDeadline(text: string): { ok: true; minutes: number | undefined } | { ok: false; problem: FieldProblem } {
   const t = text.trim();
   if (t === '') return { ok: true, minutes: undefined };
-  if (!/^\d+$/.test(t)) return { ok: false, problem: { message: `Write the deadline as whole minutes from time zero, for example 180 for 3 hours (not "${t}").` } };
+  if (!/^\d+$/.test(t))
+    return {
+      ok: false,
+      problem: { message: `Write the deadline as whole minutes from time zero, for example 180 for 3 hours (not "${t}").` },
+    };
   const n = Number(t);
-  if (n > MAX_DEADLINE_MINUTES) return { ok: false, problem: { message: `The deadline is at most ${MAX_DEADLINE_MINUTES} minutes (7 days) from time zero.` } };
+  if (n > MAX_DEADLINE_MINUTES)
+    return { ok: false, problem: { message: `The deadline is at most ${MAX_DEADLINE_MINUTES} minutes (7 days) from time zero.` } };
   return { ok: true, minutes: n };
 }
 
@@ -338,7 +380,10 @@ export function goalProblems(drafts: readonly GoalDraft[], columnKeys: readonly 
     else if (label.length > 120) p.label = { message: `The label is ${label.length} characters; the limit is 120.` };
     const typed = d.id.trim();
     if (typed && !GOAL_ID.test(typed)) {
-      p.id = { message: 'An id starts with a lower-case letter and has only lower-case letters, digits and - (at most 40); or leave it empty to make one from the label.' };
+      p.id = {
+        message:
+          'An id starts with a lower-case letter and has only lower-case letters, digits and - (at most 40); or leave it empty to make one from the label.',
+      };
     } else if (ids.indexOf(ids[i]!) !== i) {
       p.id = { message: `Another of your goals already uses the id "${ids[i]!}".` };
     }
@@ -368,7 +413,13 @@ export function checkGoals(drafts: readonly GoalDraft[], columnKeys: readonly st
     const dl = parseDeadline(d.deadline);
     if (dl.ok && dl.minutes !== undefined) g.deadlineMinutes = dl.minutes;
     const parsed = CustomGoal.safeParse(g);
-    if (!parsed.success) return { ok: false, problems: drafts.map((x) => (x === d ? { label: { message: parsed.error.issues[0]?.message ?? 'This goal cannot be saved.' } } : {})) };
+    if (!parsed.success)
+      return {
+        ok: false,
+        problems: drafts.map((x) =>
+          x === d ? { label: { message: parsed.error.issues[0]?.message ?? 'This goal cannot be saved.' } } : {},
+        ),
+      };
     goals.push(parsed.data);
   }
   return { ok: true, goals };
@@ -402,7 +453,9 @@ export function outcomeRuns(outcomes: readonly RowOutcome[]): OutcomeRun[] {
 export function outcomeSummary(outcomes: readonly RowOutcome[], maxRuns = 6): string {
   if (outcomes.length === 0) return 'No rows yet.';
   const runs = outcomeRuns(outcomes);
-  const shown = runs.slice(-maxRuns).map((r) => (r.count === 1 ? `${r.text} at ${r.from}` : `${r.text} at ${r.from} to ${r.to} (${r.count} rows)`));
+  const shown = runs
+    .slice(-maxRuns)
+    .map((r) => (r.count === 1 ? `${r.text} at ${r.from}` : `${r.text} at ${r.from} to ${r.to} (${r.count} rows)`));
   return `${runs.length > maxRuns ? '…; ' : ''}${shown.join('; ')}`;
 }
 
@@ -427,15 +480,25 @@ export function formulaVocabulary(columns: readonly { key: string; label: string
     return m.unit?.label ? m.unit.label : '';
   };
   const groups: HelpGroup[] = [
-    { title: 'Measures charted in the row', items: MEASURE_KEYS.map((k) => ({ name: k, meaning: `${MEASURES.get(k)!.label}${unitOf(k) ? `, ${unitOf(k)}` : ''}` })) },
-    { title: 'Measures Tidemark works out', items: DERIVED_DEFS.map((d) => ({ name: d.key, meaning: `${d.label}${d.unitLabel ? `, ${d.unitLabel}` : ''}` })) },
+    {
+      title: 'Measures charted in the row',
+      items: MEASURE_KEYS.map((k) => ({ name: k, meaning: `${MEASURES.get(k)!.label}${unitOf(k) ? `, ${unitOf(k)}` : ''}` })),
+    },
+    {
+      title: 'Measures Tidemark works out',
+      items: DERIVED_DEFS.map((d) => ({ name: d.key, meaning: `${d.label}${d.unitLabel ? `, ${d.unitLabel}` : ''}` })),
+    },
     { title: 'Scores', items: SCORE_DEFS.map((d) => ({ name: d.key, meaning: d.label })) },
   ];
-  if (columns.length > 0) groups.push({ title: 'Your own columns (same row only)', items: columns.map((c) => ({ name: c.key, meaning: c.label })) });
+  if (columns.length > 0)
+    groups.push({ title: 'Your own columns (same row only)', items: columns.map((c) => ({ name: c.key, meaning: c.label })) });
   groups.push(
     { title: 'Worksheet facts', items: Object.entries(FACTS).map(([name, meaning]) => ({ name, meaning })) },
     { title: 'Row helpers', items: HELPERS.map((h) => ({ name: h.signature, meaning: h.description })) },
-    { title: 'Functions', items: Object.keys(ALLOWED_FUNCTIONS).map((name) => ({ name: `${name}()`, meaning: FUNCTION_WORDS[name] ?? '' })) },
+    {
+      title: 'Functions',
+      items: Object.keys(ALLOWED_FUNCTIONS).map((name) => ({ name: `${name}()`, meaning: FUNCTION_WORDS[name] ?? '' })),
+    },
     {
       title: 'Operators and words',
       items: [

@@ -151,15 +151,24 @@ function navigationTarget(k: KeyInput, at: CellPos, size: GridSize): CellPos | u
     return undefined;
   }
   switch (k.key) {
-    case 'ArrowRight': return { row: at.row, col: Math.min(at.col + 1, lastCol) };
-    case 'ArrowLeft': return { row: at.row, col: Math.max(at.col - 1, 0) };
-    case 'ArrowDown': return { row: Math.min(at.row + 1, lastRow), col: at.col };
-    case 'ArrowUp': return { row: Math.max(at.row - 1, 0), col: at.col };
-    case 'PageDown': return { row: Math.min(at.row + page, lastRow), col: at.col };
-    case 'PageUp': return { row: Math.max(at.row - page, 0), col: at.col };
-    case 'Home': return { row: at.row, col: 0 };
-    case 'End': return { row: at.row, col: lastCol };
-    default: return undefined;
+    case 'ArrowRight':
+      return { row: at.row, col: Math.min(at.col + 1, lastCol) };
+    case 'ArrowLeft':
+      return { row: at.row, col: Math.max(at.col - 1, 0) };
+    case 'ArrowDown':
+      return { row: Math.min(at.row + 1, lastRow), col: at.col };
+    case 'ArrowUp':
+      return { row: Math.max(at.row - 1, 0), col: at.col };
+    case 'PageDown':
+      return { row: Math.min(at.row + page, lastRow), col: at.col };
+    case 'PageUp':
+      return { row: Math.max(at.row - page, 0), col: at.col };
+    case 'Home':
+      return { row: at.row, col: 0 };
+    case 'End':
+      return { row: at.row, col: lastCol };
+    default:
+      return undefined;
   }
 }
 
@@ -193,11 +202,16 @@ function navigateKey(state: GridKeyState, at: CellPos, k: KeyInput): GridKeyResu
 
 function commitTarget(move: CommitMove, at: CellPos, size: GridSize): CellPos {
   switch (move) {
-    case 'down': return { row: Math.min(at.row + 1, size.rows - 1), col: at.col };
-    case 'up': return { row: Math.max(at.row - 1, 0), col: at.col };
-    case 'right': return { row: at.row, col: Math.min(at.col + 1, size.cols - 1) };
-    case 'left': return { row: at.row, col: Math.max(at.col - 1, 0) };
-    case 'stay': return at;
+    case 'down':
+      return { row: Math.min(at.row + 1, size.rows - 1), col: at.col };
+    case 'up':
+      return { row: Math.max(at.row - 1, 0), col: at.col };
+    case 'right':
+      return { row: at.row, col: Math.min(at.col + 1, size.cols - 1) };
+    case 'left':
+      return { row: at.row, col: Math.max(at.col - 1, 0) };
+    case 'stay':
+      return at;
   }
 }
 

@@ -18,7 +18,11 @@ export const Instant = z.iso.datetime({ offset: false });
 export type Instant = z.infer<typeof Instant>;
 
 /** Offset from UTC in minutes, as typed by the user (`+01:00` is 60). */
-export const OffsetMinutes = z.number().int().min(-14 * 60).max(14 * 60);
+export const OffsetMinutes = z
+  .number()
+  .int()
+  .min(-14 * 60)
+  .max(14 * 60);
 
 /**
  * One cell's value in canonical units.
@@ -51,16 +55,18 @@ export type Row = z.infer<typeof Row>;
 export const TimeZeroBasis = z.enum(['triage', 'recognition', 'criteria', 'other']);
 export type TimeZeroBasis = z.infer<typeof TimeZeroBasis>;
 
-export const TimeZero = z.strictObject({
-  time: Instant,
-  offset: OffsetMinutes,
-  basis: TimeZeroBasis,
-  /** Free text, required when basis is `other`. */
-  reason: z.string().max(500).optional(),
-}).refine((t) => t.basis !== 'other' || (t.reason ?? '').trim().length > 0, {
-  error: 'say why time zero was chosen when its basis is "other"',
-  path: ['reason'],
-});
+export const TimeZero = z
+  .strictObject({
+    time: Instant,
+    offset: OffsetMinutes,
+    basis: TimeZeroBasis,
+    /** Free text, required when basis is `other`. */
+    reason: z.string().max(500).optional(),
+  })
+  .refine((t) => t.basis !== 'other' || (t.reason ?? '').trim().length > 0, {
+    error: 'say why time zero was chosen when its basis is "other"',
+    path: ['reason'],
+  });
 export type TimeZero = z.infer<typeof TimeZero>;
 
 export const Sex = z.enum(['female', 'male']);
@@ -82,7 +88,12 @@ export const CustomGoal = z.strictObject({
   condition: z.string().max(500).optional(),
   target: z.string().min(1).max(500),
   /** Minutes from time zero by which the target should first be met; absent for a standing target. */
-  deadlineMinutes: z.number().int().min(0).max(7 * 24 * 60).optional(),
+  deadlineMinutes: z
+    .number()
+    .int()
+    .min(0)
+    .max(7 * 24 * 60)
+    .optional(),
 });
 export type CustomGoal = z.infer<typeof CustomGoal>;
 

@@ -6,8 +6,7 @@ import type { Cell } from './model.js';
 import { measure, unitsOf, type MeasureDef, type UnitDef } from './measures.js';
 
 export type ParseResult =
-  | { ok: true; cell: Cell | null; /** Set when the value was kept but is alarming. */ warning?: string }
-  | { ok: false; error: string };
+  { ok: true; cell: Cell | null; /** Set when the value was kept but is alarming. */ warning?: string } | { ok: false; error: string };
 
 /** Formats a canonical number the way the measure displays it. */
 export function formatNumber(def: MeasureDef, value: number, unit?: UnitDef): string {
@@ -28,7 +27,9 @@ export function rangeText(def: MeasureDef): string {
 
 /** "mmHg or kPa" style list of accepted unit labels. */
 export function unitsText(def: MeasureDef): string {
-  const labels = unitsOf(def).map((u) => u.label).filter((l) => l.length > 0);
+  const labels = unitsOf(def)
+    .map((u) => u.label)
+    .filter((l) => l.length > 0);
   return [...new Set(labels)].join(' or ');
 }
 
@@ -95,10 +96,16 @@ export function parseCellInput(key: string, text: string): ParseResult {
   if (def.alarm) {
     if (def.alarm.low !== undefined && rounded < def.alarm.low) {
       cell.flag = 'low';
-      warning = `${def.label} ${formatNumber(def, rounded)} ${def.unit?.label ?? ''} is below ${def.alarm.low}: kept and flagged.`.replace(/\s+:/, ':');
+      warning = `${def.label} ${formatNumber(def, rounded)} ${def.unit?.label ?? ''} is below ${def.alarm.low}: kept and flagged.`.replace(
+        /\s+:/,
+        ':',
+      );
     } else if (def.alarm.high !== undefined && rounded > def.alarm.high) {
       cell.flag = 'high';
-      warning = `${def.label} ${formatNumber(def, rounded)} ${def.unit?.label ?? ''} is above ${def.alarm.high}: kept and flagged.`.replace(/\s+:/, ':');
+      warning = `${def.label} ${formatNumber(def, rounded)} ${def.unit?.label ?? ''} is above ${def.alarm.high}: kept and flagged.`.replace(
+        /\s+:/,
+        ':',
+      );
     }
   }
   return warning ? { ok: true, cell, warning } : { ok: true, cell };

@@ -264,7 +264,10 @@ class PlanBuilder {
   /** row id or new-row time -> key -> line that set it. */
   private readonly setBy = new Map<string, Map<string, number>>();
 
-  constructor(private readonly target: PasteTarget, layout: PastePlan['layout']) {
+  constructor(
+    private readonly target: PasteTarget,
+    layout: PastePlan['layout'],
+  ) {
     this.plan = { newRows: [], edits: [], accepted: [], refused: [], unchanged: 0, layout };
     for (const row of target.worksheet.rows) if (!this.rowsByTime.has(row.time)) this.rowsByTime.set(row.time, row);
   }
@@ -326,14 +329,23 @@ class PlanBuilder {
  * @returns the plan, or an error when the block cannot be pasted at all (empty, too big)
  */
 export function planPaste(text: string, target: PasteTarget): PastePlanResult {
-  if (text.length > MAX_PASTE_CHARS) return { ok: false, error: `The pasted text is too long (over ${MAX_PASTE_CHARS.toLocaleString('en')} characters). Use Import for whole files.` };
+  if (text.length > MAX_PASTE_CHARS)
+    return {
+      ok: false,
+      error: `The pasted text is too long (over ${MAX_PASTE_CHARS.toLocaleString('en')} characters). Use Import for whole files.`,
+    };
   const ws = target.worksheet;
   const header = readHeader(ws, text);
   const delimiter = header?.delimiter ?? '\t';
   const lines = splitDelimited(text, delimiter);
-  if (lines.length > MAX_PASTE_LINES + 1) return { ok: false, error: `The pasted text has ${lines.length} lines; at most ${MAX_PASTE_LINES} can be pasted at once. Use Import for whole files.` };
+  if (lines.length > MAX_PASTE_LINES + 1)
+    return {
+      ok: false,
+      error: `The pasted text has ${lines.length} lines; at most ${MAX_PASTE_LINES} can be pasted at once. Use Import for whole files.`,
+    };
   const body = header ? lines.slice(1) : lines;
-  if (body.every((l) => l.every((v) => v.trim() === ''))) return { ok: false, error: 'There is nothing to paste: the copied text has no values.' };
+  if (body.every((l) => l.every((v) => v.trim() === '')))
+    return { ok: false, error: 'There is nothing to paste: the copied text has no values.' };
 
   const columns = gridColumns(ws);
   let slots: (field: number) => Slot;
@@ -379,14 +391,28 @@ function planTimedLine(builder: PlanBuilder, target: PasteTarget, values: string
   });
 }
 
-function planPositionalLine(builder: PlanBuilder, target: PasteTarget, values: string[], lineNo: number, index: number, slots: (f: number) => Slot): void {
+function planPositionalLine(
+  builder: PlanBuilder,
+  target: PasteTarget,
+  values: string[],
+  lineNo: number,
+  index: number,
+  slots: (f: number) => Slot,
+): void {
   const row = target.worksheet.rows[Math.max(0, target.anchorRow) + index];
   values.forEach((input, f) => {
     if (input.trim() === '') return;
     const slot = slots(f);
     if (slot.kind === 'refuse') return builder.refuse(lineNo, f + 1, input.trim(), slot.message, slot.key);
     if (slot.kind === 'time') return; // only timed lines have a time slot
-    if (!row) return builder.refuse(lineNo, f + 1, input.trim(), 'Past the last row: add rows first, or paste with a time column to create them.', slot.key);
+    if (!row)
+      return builder.refuse(
+        lineNo,
+        f + 1,
+        input.trim(),
+        'Past the last row: add rows first, or paste with a time column to create them.',
+        slot.key,
+      );
     builder.put(lineNo, f + 1, input.trim(), slot.key, { row });
   });
 }

@@ -53,7 +53,12 @@ export function changedCells(before: Worksheet, after: Worksheet, limit = MAX_IN
  * Equals `deriveAll(after, options)`, computed from `prev` (the derivation of `before` with the
  * same options) where the change allows it.
  */
-export function rederive(prev: Derivation | undefined, before: Worksheet | undefined, after: Worksheet, options: DeriveOptions = {}): Derivation {
+export function rederive(
+  prev: Derivation | undefined,
+  before: Worksheet | undefined,
+  after: Worksheet,
+  options: DeriveOptions = {},
+): Derivation {
   if (!prev || !before || prev.basis !== basisOf(after, options)) return deriveAll(after, options);
   if (before === after) return prev;
   const changes = changedCells(before, after);

@@ -223,7 +223,9 @@ export interface ScoreResult<Part extends string> {
 
 export type SofaResult = ScoreResult<SofaOrgan>;
 export type QsofaPart = 'respiratory_rate' | 'systolic_pressure' | 'mentation';
-export type QsofaResult = ScoreResult<QsofaPart> & { /** ≥ 2 points; undefined when missing parts could change the answer. */ positive: boolean | undefined };
+export type QsofaResult = ScoreResult<QsofaPart> & {
+  /** ≥ 2 points; undefined when missing parts could change the answer. */ positive: boolean | undefined;
+};
 export type SirsPart = 'temperature' | 'heart_rate' | 'respiratory' | 'white_cells';
 export type SirsResult = ScoreResult<SirsPart> & { criteria: SirsCriteria; positive: boolean | undefined };
 
@@ -454,7 +456,9 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
     setPart('respiration', r.points, { key: 'pf_ratio', ...pf });
     if (r.supportUnknown) {
       sofa.missing.push('respiratory_support');
-      sofa.notes.push(`P/F ${fmt(pf.value)} is below 200: 3 or 4 points need respiratory support, which is not charted, so respiration scores 2.`);
+      sofa.notes.push(
+        `P/F ${fmt(pf.value)} is below 200: 3 or 4 points need respiratory support, which is not charted, so respiration scores 2.`,
+      );
     } else if (pf.value < 200 && options.respiratorySupport === false) {
       sofa.notes.push(`P/F ${fmt(pf.value)} is below 200 without respiratory support: respiration scores 2.`);
     }
@@ -473,7 +477,8 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
   for (const drug of CATECHOLAMINES) {
     const s = sustainedRate(input, drug, i, windowHours, minHours);
     if (s.rate !== undefined) held[drug] = s.rate;
-    else if (s.runningShort !== undefined) sofa.notes.push(`${drug} ${fmt(s.runningShort)} µg/kg/min has run less than ${minHours} h: not scored yet.`);
+    else if (s.runningShort !== undefined)
+      sofa.notes.push(`${drug} ${fmt(s.runningShort)} µg/kg/min has run less than ${minHours} h: not scored yet.`);
   }
   const mapLow = lo['map'];
   const cv = sofaCardiovascular({ map: mapLow?.value, ...held });
@@ -485,7 +490,8 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
       const [k, v] = drugEntries.sort((a, b) => b[1] - a[1])[0]!;
       setPart('cardiovascular', cv, { key: k, value: v, time: input.times[i]! });
     } else setPart('cardiovascular', cv, mapLow ? { key: 'map', ...mapLow } : undefined);
-    if (held.dopamine === 5) sofa.notes.push('Dopamine exactly 5 µg/kg/min scores 2 (Vincent 1996 "≤ 5"; Sepsis-3 leaves 5.0 between bands).');
+    if (held.dopamine === 5)
+      sofa.notes.push('Dopamine exactly 5 µg/kg/min scores 2 (Vincent 1996 "≤ 5"; Sepsis-3 leaves 5.0 between bands).');
   }
 
   const gcs = lo['gcs'];
@@ -512,7 +518,8 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
     }
   } else {
     setPart('renal', creatPts!, creat ? { key: 'creatinine', ...creat } : undefined);
-    if (urinePts === undefined && creatPts! < 4) sofa.notes.push('Renal scored from creatinine only: urine output is not charted for a full 24 h.');
+    if (urinePts === undefined && creatPts! < 4)
+      sofa.notes.push('Renal scored from creatinine only: urine output is not charted for a full 24 h.');
   }
   sofa.score = SOFA_ORGANS.reduce((s, o) => s + (sofa.parts[o] ?? 0), 0);
   sofa.complete = sofa.missing.length === 0;
@@ -536,7 +543,16 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
   finishCount(q, 2);
 
   // --- SIRS ---
-  const s: SirsResult = { score: 0, parts: {}, missing: [], complete: false, evidence: {}, notes: [], positive: undefined, criteria: sirsCriteria };
+  const s: SirsResult = {
+    score: 0,
+    parts: {},
+    missing: [],
+    complete: false,
+    evidence: {},
+    notes: [],
+    positive: undefined,
+    criteria: sirsCriteria,
+  };
   const tempHigh = sirsCriteria === 'sep1' ? 38.3 : 38.0;
   const tHi = hi['temp'];
   const tLo = lo['temp'];
@@ -564,7 +580,8 @@ export function scoresAt(input: ScoreInput, i: number, options: ScoreOptions = {
     s.parts.white_cells = met ? 1 : 0;
     s.evidence.white_cells = { key: 'wbc', ...(wHi.value > 12 ? wHi : wLo.value < 4 ? wLo : wHi) };
   } else s.missing.push('wbc');
-  if (sirsCriteria === 'sep1') s.notes.push('SEP-1 SIRS: temperature > 38.3 °C or < 36.0 °C; respiratory rate > 20 (no PaCO₂ alternative).');
+  if (sirsCriteria === 'sep1')
+    s.notes.push('SEP-1 SIRS: temperature > 38.3 °C or < 36.0 °C; respiratory rate > 20 (no PaCO₂ alternative).');
   else s.notes.push('SIRS (Bone 1992): temperature > 38.0 °C or < 36.0 °C; respiratory rate > 20 or PaCO₂ < 32 mmHg.');
   s.notes.push('Band forms are not charted; the white-cell criterion uses the count only.');
   finishCount(s, 2);

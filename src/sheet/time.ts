@@ -53,7 +53,12 @@ export function parseTimeInput(text: string, offset: number, referenceMs?: numbe
     const [, y, mo, d, h, mi, s, ms, off] = iso;
     const o = off === undefined ? offset : parseOffset(off);
     if (o === undefined) return { ok: false, error: `"${off ?? ''}" is not a time zone offset; write it as +01:00 or Z.` };
-    const Y = Number(y), M = Number(mo), D = Number(d), H = Number(h), MI = Number(mi), S = Number(s ?? 0);
+    const Y = Number(y),
+      M = Number(mo),
+      D = Number(d),
+      H = Number(h),
+      MI = Number(mi),
+      S = Number(s ?? 0);
     if (M < 1 || M > 12 || D < 1 || D > 31 || H > 23 || MI > 59 || S > 59) {
       return { ok: false, error: `"${raw}" is not a valid date and time.` };
     }
@@ -64,7 +69,8 @@ export function parseTimeInput(text: string, offset: number, referenceMs?: numbe
   }
   const c = CLOCK.exec(raw);
   if (c && referenceMs !== undefined) {
-    const H = Number(c[1]), MI = Number(c[2]);
+    const H = Number(c[1]),
+      MI = Number(c[2]);
     if (H > 23 || MI > 59) return { ok: false, error: `"${raw}" is not a clock time (00:00–23:59).` };
     const refLocal = new Date(referenceMs + offset * MINUTE_MS);
     let local = Date.UTC(refLocal.getUTCFullYear(), refLocal.getUTCMonth(), refLocal.getUTCDate(), H, MI);

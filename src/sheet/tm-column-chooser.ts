@@ -183,15 +183,27 @@ export class TmColumnChooser extends LitElement {
     return html`<div class="lists">
       <section aria-labelledby="shown-h">
         <h3 id="shown-h">Shown, left to right</h3>
-        ${shown.length === 0
-          ? html`<p class="empty">No columns shown.</p>`
-          : html`<ol>${repeat(shown, (k) => k, (k, i) => this.renderShown(k, i, shown.length))}</ol>`}
+        ${
+          shown.length === 0
+            ? html`<p class="empty">No columns shown.</p>`
+            : html`<ol>${repeat(
+                shown,
+                (k) => k,
+                (k, i) => this.renderShown(k, i, shown.length),
+              )}</ol>`
+        }
       </section>
       <section aria-labelledby="hidden-h">
         <h3 id="hidden-h">Hidden</h3>
-        ${hidden.length === 0
-          ? html`<p class="empty">Every column is shown.</p>`
-          : html`<ul>${repeat(hidden, (o) => o.key, (o) => this.renderHidden(o))}</ul>`}
+        ${
+          hidden.length === 0
+            ? html`<p class="empty">Every column is shown.</p>`
+            : html`<ul>${repeat(
+                hidden,
+                (o) => o.key,
+                (o) => this.renderHidden(o),
+              )}</ul>`
+        }
       </section>
     </div>`;
   }

@@ -189,7 +189,11 @@ export class TmDerivedColumns extends LitElement {
       this.baseFor = ws;
     }
     if (!this.preview || this.previewFor?.ws !== ws || this.previewFor.items !== this.items) {
-      this.preview = previewColumns(ws, this.base, this.items.map((i) => i.draft));
+      this.preview = previewColumns(
+        ws,
+        this.base,
+        this.items.map((i) => i.draft),
+      );
       this.previewFor = { ws, items: this.items };
     }
     return this.preview;
@@ -256,7 +260,10 @@ export class TmDerivedColumns extends LitElement {
     const ws = this.worksheet;
     if (!ws) return;
     const preview = this.currentPreview(ws);
-    const result = checkColumns(preview, this.items.map((i) => i.draft));
+    const result = checkColumns(
+      preview,
+      this.items.map((i) => i.draft),
+    );
     if (!result.ok) {
       this.tried = true;
       const bad = result.problems.findIndex((p) => Object.keys(p).length > 0);
@@ -274,7 +281,13 @@ export class TmDerivedColumns extends LitElement {
     this.dispatchEvent(new DerivedColumnsEvent(result.columns));
   };
 
-  private input(item: Item, field: ColumnField, label: string, problem: FieldProblem | undefined, opts: { hint?: string; mono?: boolean; formula?: boolean } = {}): TemplateResult {
+  private input(
+    item: Item,
+    field: ColumnField,
+    label: string,
+    problem: FieldProblem | undefined,
+    opts: { hint?: string; mono?: boolean; formula?: boolean } = {},
+  ): TemplateResult {
     const id = `${field}-${item.uid}`;
     const show = this.shown(item.uid, field);
     const invalid = show && problem !== undefined;
@@ -328,7 +341,9 @@ export class TmDerivedColumns extends LitElement {
 
   private editor(item: Item, preview: ColumnsPreview, index: number): TemplateResult {
     const p = preview.problems[index] ?? {};
-    const others = this.items.filter((i) => i.uid !== item.uid && i.draft.key.trim()).map((i) => ({ key: i.draft.key.trim(), label: i.draft.label.trim() || i.draft.key.trim() }));
+    const others = this.items
+      .filter((i) => i.uid !== item.uid && i.draft.key.trim())
+      .map((i) => ({ key: i.draft.key.trim(), label: i.draft.label.trim() || i.draft.key.trim() }));
     return html`<div class="editor" id="editor-${item.uid}" @keydown=${(e: KeyboardEvent) => this.onEditorKey(e, item.uid)}>
       <div class="pair">
         ${this.input(item, 'key', 'Key', p.key, { hint: 'Short name formulas use: lower-case letters, digits and _.', mono: true })}
@@ -378,11 +393,13 @@ export class TmDerivedColumns extends LitElement {
       <p class="caution">
         Decision support only: formulas you write are your own; check them against local protocols and licensed clinical judgment.
       </p>
-      ${this.items.length === 0
-        ? html`<p class="empty">This worksheet has no columns of its own yet.</p>`
-        : html`<ul class="items" aria-label="Columns of this worksheet">
+      ${
+        this.items.length === 0
+          ? html`<p class="empty">This worksheet has no columns of its own yet.</p>`
+          : html`<ul class="items" aria-label="Columns of this worksheet">
             ${this.items.map((item, i) => this.itemView(item, preview, i))}
-          </ul>`}
+          </ul>`
+      }
       <div class="actions">
         <button type="button" id="add" @click=${this.add}>Add a column</button>
         <button type="submit" class="primary" id="save">Save columns</button>

@@ -837,7 +837,8 @@ export class TmGrid extends LitElement {
     for (const d of DERIVED_DEFS) {
       if (!MEASURES.has(d.key)) out.push({ key: d.key, label: d.short, title: d.label, unit: d.unitLabel, calculated: true });
     }
-    for (const d of ws?.derivedColumns ?? []) out.push({ key: d.key, label: d.label, title: d.expression, unit: d.unit ?? '', calculated: true });
+    for (const d of ws?.derivedColumns ?? [])
+      out.push({ key: d.key, label: d.label, title: d.expression, unit: d.unit ?? '', calculated: true });
     return out;
   }
 
@@ -884,9 +885,11 @@ export class TmGrid extends LitElement {
         aria-describedby=${this.editError ? 'cell-error' : nothing}
         .value=${this.editStart}
         @focusout=${this.onEditorFocusOut}
-      />${this.editError
-        ? html`<div id="cell-error" class=${classMap({ bubble: true, error: true, end })} role="alert"><span aria-hidden="true">✕ </span>${this.editError}</div>`
-        : nothing}`;
+      />${
+        this.editError
+          ? html`<div id="cell-error" class=${classMap({ bubble: true, error: true, end })} role="alert"><span aria-hidden="true">✕ </span>${this.editError}</div>`
+          : nothing
+      }`;
   }
 
   private renderNote(rowId: string, key: string, colIndex: number): TemplateResult | typeof nothing {
@@ -915,9 +918,11 @@ export class TmGrid extends LitElement {
       data-col=${TIME_COL}
       title=${`${full} (UTC${formatOffset(ws.displayOffset)})`}
     >
-      ${editing
-        ? this.renderEditor(`Time of the row at ${clock}`, 0)
-        : html`${highlighted ? html`<span class="hl-mark" aria-hidden="true">◆</span>` : nothing}<span class="v">${clock}</span>${day ? html` <span class="day">${day}</span>` : nothing}${highlighted ? html`<span class="sr"> (highlighted)</span>` : nothing}`}
+      ${
+        editing
+          ? this.renderEditor(`Time of the row at ${clock}`, 0)
+          : html`${highlighted ? html`<span class="hl-mark" aria-hidden="true">◆</span>` : nothing}<span class="v">${clock}</span>${day ? html` <span class="day">${day}</span>` : nothing}${highlighted ? html`<span class="sr"> (highlighted)</span>` : nothing}`
+      }
       ${this.renderNote(row.id, TIME_COL, 0)}
     </th>`;
   }
@@ -929,9 +934,9 @@ export class TmGrid extends LitElement {
       return html`<span class="v est">${formatNumber(col.def, estimate, this.displayUnit(col.key))}</span> <span class="est-mark">est.</span>`;
     }
     const flag = cell?.flag;
-    return html`<span class="v">${formatCell(col.key, cell, this.displayUnit(col.key))}</span>${flag
-      ? html` <span class="badge flag">${flag === 'high' ? '↑ high' : '↓ low'}</span>`
-      : nothing}`;
+    return html`<span class="v">${formatCell(col.key, cell, this.displayUnit(col.key))}</span>${
+      flag ? html` <span class="badge flag">${flag === 'high' ? '↑ high' : '↓ low'}</span>` : nothing
+    }`;
   }
 
   private renderCalcValue(row: Row, col: GridColumn): TemplateResult {
@@ -965,11 +970,13 @@ export class TmGrid extends LitElement {
       data-row=${row.id}
       data-col=${col.key}
     >
-      ${editing
-        ? this.renderEditor(`${label} at ${formatClock(row.time, ws.displayOffset)}`, colIndex)
-        : measure
-          ? this.renderMeasureValue(row, col)
-          : this.renderCalcValue(row, col)}
+      ${
+        editing
+          ? this.renderEditor(`${label} at ${formatClock(row.time, ws.displayOffset)}`, colIndex)
+          : measure
+            ? this.renderMeasureValue(row, col)
+            : this.renderCalcValue(row, col)
+      }
       ${pending === 'saving' ? html` <span class="badge saving">◌ saving</span>` : nothing}
       ${pending === 'failed' ? html` <span class="badge failed">✕ not saved</span>` : nothing}
       ${this.renderNote(row.id, col.key, colIndex)}
@@ -1011,7 +1018,8 @@ export class TmGrid extends LitElement {
   private renderPastePreview(ws: Worksheet): TemplateResult | typeof nothing {
     const plan = this.plan;
     if (!plan) return nothing;
-    const label = (key: string | undefined) => (key ? (MEASURES.get(key)?.short ?? this.cols.find((c) => c.key === key)?.def.label ?? key) : '—');
+    const label = (key: string | undefined) =>
+      key ? (MEASURES.get(key)?.short ?? this.cols.find((c) => c.key === key)?.def.label ?? key) : '—';
     const stored = plan.accepted.length;
     const newRows = plan.newRows.length;
     return html`<h2 id="paste-title">Check the paste before storing</h2>
@@ -1021,8 +1029,9 @@ export class TmGrid extends LitElement {
         ${plan.unchanged > 0 ? html`<span>= ${plan.unchanged} already stored</span>` : nothing}
       </p>
       <p>Read ${plan.layout.header ? 'by the column names on the first line' : 'from the active cell'}${plan.layout.byTime ? ', one row per time' : ''}. Refused values are not stored.</p>
-      ${stored > 0
-        ? html`<h3>Will be stored</h3>
+      ${
+        stored > 0
+          ? html`<h3>Will be stored</h3>
             <div class="preview" tabindex="0" role="region" aria-label="Values to store">
               <table>
                 <thead><tr><th scope="col">Time</th><th scope="col">Column</th><th scope="col">Value</th><th scope="col">Note</th></tr></thead>
@@ -1039,26 +1048,33 @@ export class TmGrid extends LitElement {
               </table>
             </div>
             ${stored > PREVIEW_LIMIT ? html`<p>…and ${stored - PREVIEW_LIMIT} more.</p>` : nothing}`
-        : nothing}
-      ${plan.refused.length > 0
-        ? html`<h3>Refused, not stored</h3>
+          : nothing
+      }
+      ${
+        plan.refused.length > 0
+          ? html`<h3>Refused, not stored</h3>
             <div class="preview" tabindex="0" role="region" aria-label="Refused values">
               <table>
                 <thead><tr><th scope="col">Line</th><th scope="col">Column</th><th scope="col">Pasted</th><th scope="col">Why</th></tr></thead>
                 <tbody>
-                  ${plan.refused.slice(0, PREVIEW_LIMIT).map(
-                    (r) => html`<tr><td>${r.line}</td><td>${label(r.key)}</td><td>${r.input}</td><td class="why">${r.message}</td></tr>`,
-                  )}
+                  ${plan.refused
+                    .slice(0, PREVIEW_LIMIT)
+                    .map(
+                      (r) => html`<tr><td>${r.line}</td><td>${label(r.key)}</td><td>${r.input}</td><td class="why">${r.message}</td></tr>`,
+                    )}
                 </tbody>
               </table>
             </div>
             ${plan.refused.length > PREVIEW_LIMIT ? html`<p>…and ${plan.refused.length - PREVIEW_LIMIT} more.</p>` : nothing}`
-        : nothing}
+          : nothing
+      }
       <div class="actions">
         <button type="button" class="cancel" @click=${() => this.pasteDialog.close()}>Cancel</button>
-        ${stored > 0
-          ? html`<button type="button" class="primary confirm" autofocus @click=${this.confirmPaste}>Store ${stored} ${stored === 1 ? 'value' : 'values'}</button>`
-          : nothing}
+        ${
+          stored > 0
+            ? html`<button type="button" class="primary confirm" autofocus @click=${this.confirmPaste}>Store ${stored} ${stored === 1 ? 'value' : 'values'}</button>`
+            : nothing
+        }
       </div>`;
   }
 
@@ -1105,12 +1121,14 @@ export class TmGrid extends LitElement {
             )}
           </tbody>
         </table>
-        ${this.rows.length === 0
-          ? html`<p class="empty" tabindex="0">
+        ${
+          this.rows.length === 0
+            ? html`<p class="empty" tabindex="0">
               No rows yet. Add a row now (<kbd>Alt</kbd>+<kbd>N</kbd>) or at a time you type below, or paste rows copied with their
               times here.
             </p>`
-          : nothing}
+            : nothing
+        }
       </div>
       <div hidden>
         ${calcCols.map((c) => html`<span id=${`calc-${c.key}`}>${this.headerTitle(c)}</span>`)}

@@ -213,9 +213,7 @@ export function setFacts(ctx: Ctx, ws: Worksheet, patch: Partial<Facts>): Change
 
 /** Shows, hides or reorders columns. */
 export function setColumns(ctx: Ctx, ws: Worksheet, columns: string[]): Change {
-  return commit(ctx, ws, { columns: [...columns] }, [
-    { kind: 'columns', old: JSON.stringify(ws.columns), new: JSON.stringify(columns) },
-  ]);
+  return commit(ctx, ws, { columns: [...columns] }, [{ kind: 'columns', old: JSON.stringify(ws.columns), new: JSON.stringify(columns) }]);
 }
 
 export function setDerivedColumns(ctx: Ctx, ws: Worksheet, derivedColumns: DerivedColumn[]): Change {

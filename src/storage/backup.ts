@@ -68,9 +68,7 @@ export function backupFileName(doc: BackupDocument): string {
 // ---------------------------------------------------------------------------------------------
 // Migration
 
-export type MigrateResult =
-  | { ok: true; doc: BackupDocument; fromVersion: number; notes: string[] }
-  | { ok: false; problems: string[] };
+export type MigrateResult = { ok: true; doc: BackupDocument; fromVersion: number; notes: string[] } | { ok: false; problems: string[] };
 
 /** Upgrades a document validated as version `from` to the shape of version `from + 1`. */
 interface BackupStep {
@@ -98,7 +96,9 @@ const BACKUP_STEPS: readonly BackupStep[] = [
     worksheets: doc.worksheets.map((ws) => {
       // Version 0 showed times in the time-zero offset, else in the first row's offset.
       const displayOffset = ws.timeZero?.offset ?? ws.rows[0]?.offset ?? 0;
-      notes.push(`Worksheet "${ws.label}": display offset set to ${formatOffset(displayOffset)} and dosing weight to the actual weight (older backup).`);
+      notes.push(
+        `Worksheet "${ws.label}": display offset set to ${formatOffset(displayOffset)} and dosing weight to the actual weight (older backup).`,
+      );
       return { ...ws, displayOffset, useIdealWeight: false };
     }),
   })),
@@ -131,7 +131,9 @@ export function migrateBackup(value: unknown): MigrateResult {
   if (version > BACKUP_VERSION) {
     return {
       ok: false,
-      problems: [`version: this backup was made by a newer Tidemark (backup version ${version}); this app reads versions up to ${BACKUP_VERSION}.`],
+      problems: [
+        `version: this backup was made by a newer Tidemark (backup version ${version}); this app reads versions up to ${BACKUP_VERSION}.`,
+      ],
     };
   }
   const notes: string[] = [];

@@ -50,7 +50,11 @@ export const LockRecord = z.strictObject({
   salt: z.string().min(1).max(200),
   keyId: z.string().min(8).max(64),
   check: z.strictObject({ iv: z.string().min(1).max(100), data: z.string().min(1).max(400) }),
-  idleMinutes: z.number().int().min(1).max(24 * 60),
+  idleMinutes: z
+    .number()
+    .int()
+    .min(1)
+    .max(24 * 60),
 });
 export type LockRecord = z.infer<typeof LockRecord>;
 
@@ -133,7 +137,10 @@ export class AesGcmCodec implements RecordCodec {
     const parsed = Sealed.safeParse(sealed['sealed']);
     if (!parsed.success) throw new StoreError('corrupt', `A sealed ${store} record is damaged (its sealed part cannot be read).`);
     if (parsed.data.kid !== this.keyId) {
-      throw new StoreError('locked', 'This record was sealed with another passphrase (the lock was changed in another tab). Reload the page.');
+      throw new StoreError(
+        'locked',
+        'This record was sealed with another passphrase (the lock was changed in another tab). Reload the page.',
+      );
     }
     const { sealed: _drop, ...clear } = sealed;
     let text: string;
@@ -155,10 +162,7 @@ export interface NewLock {
 }
 
 /** Makes a new lock (salt, key, passphrase check) for a passphrase. Stores nothing. */
-export async function createLock(
-  passphrase: string,
-  options: { idleMinutes?: number; iterations?: number } = {},
-): Promise<NewLock> {
+export async function createLock(passphrase: string, options: { idleMinutes?: number; iterations?: number } = {}): Promise<NewLock> {
   const problem = passphraseProblem(passphrase);
   if (problem) throw new Error(problem);
   const iterations = options.iterations ?? PBKDF2_ITERATIONS;
@@ -166,7 +170,9 @@ export async function createLock(
   const key = await deriveKey(passphrase, salt, iterations);
   const keyId = toBase64(random(12)).replace(/[^A-Za-z0-9]/g, 'x');
   const iv = random(IV_BYTES);
-  const data = new Uint8Array(await subtle().encrypt({ name: 'AES-GCM', iv, additionalData: utf8(CHECK_AAD) }, key, utf8(`${CHECK_TEXT}:${keyId}`)));
+  const data = new Uint8Array(
+    await subtle().encrypt({ name: 'AES-GCM', iv, additionalData: utf8(CHECK_AAD) }, key, utf8(`${CHECK_TEXT}:${keyId}`)),
+  );
   const record = LockRecord.parse({
     version: 1,
     kdf: 'PBKDF2-HMAC-SHA-256',
@@ -187,9 +193,7 @@ export function passphraseProblem(passphrase: string): string {
   return '';
 }
 
-export type UnlockResult =
-  | { ok: true; codec: AesGcmCodec }
-  | { ok: false; reason: 'wrong-passphrase' | 'damaged'; message: string };
+export type UnlockResult = { ok: true; codec: AesGcmCodec } | { ok: false; reason: 'wrong-passphrase' | 'damaged'; message: string };
 
 export const WRONG_PASSPHRASE_MESSAGE =
   'That passphrase does not unlock this notebook. Nothing was changed or deleted; check the keyboard layout and Caps Lock, then try again.';

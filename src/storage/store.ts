@@ -67,10 +67,7 @@ export type CommitResult =
   | { ok: false; reason: 'missing'; message: string }
   | WriteFailure;
 
-export type CreateResult =
-  | { ok: true; worksheet: Worksheet }
-  | { ok: false; reason: 'exists'; message: string }
-  | WriteFailure;
+export type CreateResult = { ok: true; worksheet: Worksheet } | { ok: false; reason: 'exists'; message: string } | WriteFailure;
 
 export type RemoveResult = { ok: true; removed: boolean } | WriteFailure;
 
@@ -157,7 +154,12 @@ export interface RecordCodec {
 
 /** True for a record written through a codec. */
 export function isSealed(value: unknown): value is Record<string, unknown> & { sealed: object } {
-  return typeof value === 'object' && value !== null && typeof (value as { sealed?: unknown }).sealed === 'object' && (value as { sealed?: unknown }).sealed !== null;
+  return (
+    typeof value === 'object' &&
+    value !== null &&
+    typeof (value as { sealed?: unknown }).sealed === 'object' &&
+    (value as { sealed?: unknown }).sealed !== null
+  );
 }
 
 /** The key id a lock meta record names (undefined: the notebook is not locked). */
@@ -373,7 +375,8 @@ export async function openStore(options: OpenStoreOptions = {}): Promise<Store> 
 // ---------------------------------------------------------------------------------------------
 // Implementation
 
-const CLOSED_MESSAGE = 'The notebook database is closed in this tab (a newer version was opened elsewhere, or the browser closed it). Reload the page; your last saved change is kept.';
+const CLOSED_MESSAGE =
+  'The notebook database is closed in this tab (a newer version was opened elsewhere, or the browser closed it). Reload the page; your last saved change is kept.';
 
 function closedFailure(): WriteFailure {
   return { ok: false, reason: 'closed', message: CLOSED_MESSAGE };
@@ -442,7 +445,7 @@ function checkChange(change: Change, expectedRev: number): string[] {
   if (ws.rev <= expectedRev) return [`worksheet.rev: ${ws.rev} must be above the revision the edit started from (${expectedRev})`];
   const tail = log.slice(log.length - change.entries.length);
   if (change.entries.length > log.length || tail.some((e, i) => e !== change.entries[i] && e.id !== change.entries[i]!.id)) {
-    return ['entries: the change\'s entries must be the last entries of worksheet.log'];
+    return ["entries: the change's entries must be the last entries of worksheet.log"];
   }
   return [];
 }
@@ -639,14 +642,15 @@ class NotebookStore implements Store {
     try {
       return this.db.transaction(stores, 'readonly') as ReadTx;
     } catch (err) {
-      throw new StoreError(this.closed || errorName(err) === 'InvalidStateError' ? 'closed' : 'failed', `Could not read the notebook: ${errorMessage(err)}`);
+      throw new StoreError(
+        this.closed || errorName(err) === 'InvalidStateError' ? 'closed' : 'failed',
+        `Could not read the notebook: ${errorMessage(err)}`,
+      );
     }
   }
 
   private writeTx(stores: StoreName[], durability?: 'strict'): IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'> {
-    return durability
-      ? this.db.transaction(stores, 'readwrite', { durability })
-      : this.db.transaction(stores, 'readwrite');
+    return durability ? this.db.transaction(stores, 'readwrite', { durability }) : this.db.transaction(stores, 'readwrite');
   }
 
   async list(): Promise<NotebookListing> {
@@ -689,11 +693,7 @@ class NotebookStore implements Store {
 
   async getAll(): Promise<{ worksheets: Worksheet[]; unreadable: Unreadable[] }> {
     const tx = this.readTx(['worksheets', 'log']);
-    const [records, entries] = await Promise.all([
-      tx.objectStore('worksheets').getAll(),
-      tx.objectStore('log').getAll(),
-      tx.done,
-    ]);
+    const [records, entries] = await Promise.all([tx.objectStore('worksheets').getAll(), tx.objectStore('log').getAll(), tx.done]);
     const byWorksheet = new Map<string, unknown[]>();
     for (const e of entries) {
       const list = byWorksheet.get(e.worksheetId) ?? [];
@@ -719,7 +719,10 @@ class NotebookStore implements Store {
     const parsed = Worksheet.safeParse(ws);
     if (!parsed.success) return invalid('This is not a valid worksheet.', formatIssues(parsed.error.issues));
     const keyId = this.codec?.keyId;
-    const pieces = await this.pieces(ws, ws.log.map((entry, seq) => ({ seq, entry })));
+    const pieces = await this.pieces(
+      ws,
+      ws.log.map((entry, seq) => ({ seq, entry })),
+    );
     let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
     try {
       tx = this.writeTx(['worksheets', 'summaries', 'log', 'meta']);
@@ -754,7 +757,10 @@ class NotebookStore implements Store {
     const firstSeq = ws.log.length - change.entries.length;
     const keyId = this.codec?.keyId;
     // Sealed (when locked) before the transaction: nothing but IndexedDB requests is awaited inside.
-    const pieces = await this.pieces(ws, change.entries.map((entry, i) => ({ seq: firstSeq + i, entry })));
+    const pieces = await this.pieces(
+      ws,
+      change.entries.map((entry, i) => ({ seq: firstSeq + i, entry })),
+    );
 
     let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
     try {
@@ -788,7 +794,11 @@ class NotebookStore implements Store {
         const stored = await tx.objectStore('worksheets').get(ws.id);
         if (stored === undefined) {
           await done;
-          return { ok: false, reason: 'missing', message: `Worksheet "${ws.label}" is no longer in this notebook (removed in another tab?).` };
+          return {
+            ok: false,
+            reason: 'missing',
+            message: `Worksheet "${ws.label}" is no longer in this notebook (removed in another tab?).`,
+          };
         }
         storedRev = (stored as { rev?: unknown }).rev;
         storedCount = (stored as { logCount?: unknown }).logCount;
@@ -871,7 +881,14 @@ class NotebookStore implements Store {
     const mayReplace = (id: string): boolean =>
       options.replace === true || (Array.isArray(options.replace) && options.replace.includes(id));
     const keyId = this.codec?.keyId;
-    const allPieces = await Promise.all(worksheets.map((ws) => this.pieces(ws, ws.log.map((entry, seq) => ({ seq, entry })))));
+    const allPieces = await Promise.all(
+      worksheets.map((ws) =>
+        this.pieces(
+          ws,
+          ws.log.map((entry, seq) => ({ seq, entry })),
+        ),
+      ),
+    );
 
     let tx: IDBPTransaction<TidemarkDB, StoreName[], 'readwrite'>;
     try {
@@ -985,7 +1002,13 @@ class NotebookStore implements Store {
           tx.objectStore('summaries').count(),
           tx.objectStore('meta').get(LOCK_META_KEY),
         ]);
-        const revs = (list: unknown[]) => list.map((r) => `${String((r as { id?: unknown }).id)}:${String((r as { rev?: unknown }).rev)}:${String((r as { logCount?: unknown }).logCount)}`).join('|');
+        const revs = (list: unknown[]) =>
+          list
+            .map(
+              (r) =>
+                `${String((r as { id?: unknown }).id)}:${String((r as { rev?: unknown }).rev)}:${String((r as { logCount?: unknown }).logCount)}`,
+            )
+            .join('|');
         const unchanged =
           revs(records) === revs(snapshot.records) &&
           logCount === snapshot.entries.length &&

@@ -126,7 +126,11 @@ describe('WorksheetSession paste', () => {
       [{ rowId, key: 'hr', cell: { value: 118 } }],
     );
     expect(store.stored.rev).toBe(revBefore + 1);
-    expect(store.stored.rows.map((r) => r.time)).toEqual(['2026-03-01T08:00:00.000Z', '2026-03-01T08:30:00.000Z', '2026-03-01T09:00:00.000Z']);
+    expect(store.stored.rows.map((r) => r.time)).toEqual([
+      '2026-03-01T08:00:00.000Z',
+      '2026-03-01T08:30:00.000Z',
+      '2026-03-01T09:00:00.000Z',
+    ]);
     expect(store.stored.rows[0]!.cells['hr']).toEqual({ value: 118 });
     await session.undo();
     expect(store.stored.rows).toHaveLength(1);

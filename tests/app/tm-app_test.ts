@@ -124,7 +124,10 @@ describe('tm-app: goals on fake time', () => {
     const ctx = { clock };
     let ws = createWorksheet(ctx, { label: 'Clock test (fictional)', displayOffset: 0, weightKg: 70 });
     ws = setFacts(ctx, ws, { timeZero: { time: new Date(T0).toISOString(), offset: 0, basis: 'triage' } }).worksheet;
-    ws = addRow(ctx, ws, new Date(T0 + 10 * 60_000).toISOString(), 0, { lactate: { value: 1.5 }, cultures_drawn: { value: true } }).worksheet;
+    ws = addRow(ctx, ws, new Date(T0 + 10 * 60_000).toISOString(), 0, {
+      lactate: { value: 1.5 },
+      cultures_drawn: { value: true },
+    }).worksheet;
     const store = await open(dbName());
     await store.create(ws);
     const app = await mount(store, clock);

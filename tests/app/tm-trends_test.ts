@@ -74,7 +74,13 @@ function expectedValue(ws: Worksheet, i: number, key: string): number | undefine
     return uo / (ws.weightKg! * hours);
   }
   if (key === 'ne_equivalent') {
-    const parts: [string, number][] = [['norepinephrine', 1], ['epinephrine', 1], ['phenylephrine', 0.1], ['dopamine', 0.01], ['vasopressin', 2.5]];
+    const parts: [string, number][] = [
+      ['norepinephrine', 1],
+      ['epinephrine', 1],
+      ['phenylephrine', 0.1],
+      ['dopamine', 0.01],
+      ['vasopressin', 2.5],
+    ];
     const charted = parts.filter(([k]) => num(row, k) !== undefined);
     return charted.length ? charted.reduce((a, [k, f]) => a + num(row, k)! * f, 0) : undefined;
   }
@@ -98,8 +104,15 @@ describe('tm-trends: the demo worksheet’s trends match its rows', () => {
       const expected = h.ws.rows
         .map((r, i) => ({ rowId: r.id, value: expectedValue(h.ws, i, key), minutes: (Date.parse(r.time) - h.t0) / MIN }))
         .filter((x) => x.value !== undefined);
-      const got = points(h.root, key).map((p) => ({ rowId: p.dataset['row'], value: Number(p.dataset['value']), minutes: Number(p.dataset['minutes']) }));
-      expect(got.map((g) => g.rowId), key).to.deep.equal(expected.map((e) => e.rowId));
+      const got = points(h.root, key).map((p) => ({
+        rowId: p.dataset['row'],
+        value: Number(p.dataset['value']),
+        minutes: Number(p.dataset['minutes']),
+      }));
+      expect(
+        got.map((g) => g.rowId),
+        key,
+      ).to.deep.equal(expected.map((e) => e.rowId));
       got.forEach((g, i) => {
         expect(g.value, `${key} value at ${String(g.rowId)}`).to.be.closeTo(expected[i]!.value!, 1e-9);
         expect(g.minutes, `${key} minutes at ${String(g.rowId)}`).to.equal(expected[i]!.minutes);
@@ -140,7 +153,8 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
       for (const g of set.goals) {
         if (g.rule.kind !== 'target' || g.rule.test.kind !== 'range' || !KEYS.includes(g.rule.key)) continue;
         const st = goals.find((x) => x.id === `${setId}.${g.id}`)!;
-        const applies = st.status !== 'not-applicable' && (g.rule.from === 'time-zero' || g.condition.kind === 'always' || st.conditionSince !== null);
+        const applies =
+          st.status !== 'not-applicable' && (g.rule.from === 'time-zero' || g.condition.kind === 'always' || st.conditionSince !== null);
         out.push({ id: st.id, key: g.rule.key, min: g.rule.test.min, max: g.rule.test.max, applies });
       }
     }
@@ -153,7 +167,9 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
       const targets = rangeTargets(h.ws, h.goals);
       expect(targets.length).to.be.greaterThan(1);
       for (const t of targets) {
-        const rects = [...h.root.querySelectorAll<SVGRectElement>(`figure[data-key="${t.key}"] rect.band`)].filter((r) => (r.dataset['goals'] ?? '').split(' ').includes(t.id));
+        const rects = [...h.root.querySelectorAll<SVGRectElement>(`figure[data-key="${t.key}"] rect.band`)].filter((r) =>
+          (r.dataset['goals'] ?? '').split(' ').includes(t.id),
+        );
         if (!t.applies) {
           expect(rects, t.id).to.have.length(0);
           continue;
@@ -161,7 +177,12 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
         expect(rects, t.id).to.have.length(1);
         expect(rects[0]!.dataset['min'], `${t.id} min`).to.equal(t.min === undefined ? '' : String(t.min));
         expect(rects[0]!.dataset['max'], `${t.id} max`).to.equal(t.max === undefined ? '' : String(t.max));
-        const word = t.min !== undefined && t.max !== undefined ? `target ${t.min}–${t.max}` : t.min !== undefined ? `target ≥ ${t.min}` : `target ≤ ${String(t.max)}`;
+        const word =
+          t.min !== undefined && t.max !== undefined
+            ? `target ${t.min}–${t.max}`
+            : t.min !== undefined
+              ? `target ≥ ${t.min}`
+              : `target ≤ ${String(t.max)}`;
         const labels = [...h.root.querySelectorAll(`figure[data-key="${t.key}"] text.band-label`)].map((x) => x.textContent);
         expect(labels, t.id).to.include(word);
       }
@@ -171,7 +192,9 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
   it('matches the published figures: MAP ≥ 65 from the first vasopressor, urine ≥ 0.5, EGDT MAP 65–90 and ScvO₂ ≥ 70', async () => {
     const h = await mount(demo(['egdt']));
     const band = (key: string, id: string) =>
-      [...h.root.querySelectorAll<SVGRectElement>(`figure[data-key="${key}"] rect.band`)].find((r) => (r.dataset['goals'] ?? '').split(' ').includes(id));
+      [...h.root.querySelectorAll<SVGRectElement>(`figure[data-key="${key}"] rect.band`)].find((r) =>
+        (r.dataset['goals'] ?? '').split(' ').includes(id),
+      );
     // SSC 2021: initial MAP target 65 mmHg in septic shock on vasopressors (reference file §1).
     const ssc = band('map', 'ssc2021-targets.map')!;
     expect(ssc.dataset['min']).to.equal('65');
@@ -196,7 +219,8 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
         const { x, y } = translate(p);
         const verdict = [...p.classList].find((c) => c.startsWith('v-'))!.slice(2);
         const inForce = rects.filter((r) => Number(r.getAttribute('x')) <= x + 0.2);
-        const inside = (r: SVGRectElement) => y >= Number(r.getAttribute('y')) - 0.2 && y <= Number(r.getAttribute('y')) + Number(r.getAttribute('height')) + 0.2;
+        const inside = (r: SVGRectElement) =>
+          y >= Number(r.getAttribute('y')) - 0.2 && y <= Number(r.getAttribute('y')) + Number(r.getAttribute('height')) + 0.2;
         const label = p.getAttribute('aria-label') ?? '';
         if (verdict === 'in') {
           judged += 1;
@@ -205,7 +229,10 @@ describe('tm-trends: target bands are the goal sets’ targets', () => {
           expect(label).to.contain('in range');
         } else if (verdict === 'above' || verdict === 'below') {
           judged += 1;
-          expect(inForce.some((r) => !inside(r)), `${key} ${String(p.dataset['row'])} outside`).to.equal(true);
+          expect(
+            inForce.some((r) => !inside(r)),
+            `${key} ${String(p.dataset['row'])} outside`,
+          ).to.equal(true);
           const d = p.querySelector('path.mark')!.getAttribute('d')!;
           // ▲ above: apex up (negative y); ▼ below: apex down.
           expect(d.startsWith(verdict === 'above' ? 'M0,-' : 'M0,7'), `${key} shape`).to.equal(true);
@@ -223,7 +250,9 @@ describe('tm-trends: time zero, deadlines and events', () => {
   it('marks each goal deadline once at its time, and time zero', async () => {
     const h = await mount(demo());
     const model = h.el.trends!;
-    const deadlineMinutes = [...new Set(h.goals.filter((g) => g.deadline).map((g) => Math.round((Date.parse(g.deadline!) - h.t0) / MIN)))].sort((a, b) => a - b);
+    const deadlineMinutes = [
+      ...new Set(h.goals.filter((g) => g.deadline).map((g) => Math.round((Date.parse(g.deadline!) - h.t0) / MIN))),
+    ].sort((a, b) => a - b);
     const drawn = deadlineMinutes.filter((m) => m >= model.xMin && m <= model.xMax);
     const later = deadlineMinutes.filter((m) => m > model.xMax);
     const lines = [...h.root.querySelectorAll('figure[data-key="map"] line.due')].map((l) => Number(l.getAttribute('x1')));
@@ -279,7 +308,10 @@ describe('tm-trends: linked to the grid', () => {
     await new Promise((r) => setTimeout(r, 0));
     const active = h.root.activeElement as SVGGElement;
     expect(active.dataset['row']).to.equal(pts[pts.length - 2]!.dataset['row']);
-    expect(seen.filter((d) => d.via === 'focus').map((d) => d.rowId)).to.deep.equal([pts[pts.length - 1]!.dataset['row'], pts[pts.length - 2]!.dataset['row']]);
+    expect(seen.filter((d) => d.via === 'focus').map((d) => d.rowId)).to.deep.equal([
+      pts[pts.length - 1]!.dataset['row'],
+      pts[pts.length - 2]!.dataset['row'],
+    ]);
     await sendKeys({ press: 'Enter' });
     expect(seen[seen.length - 1]).to.deep.equal({ rowId: pts[pts.length - 2]!.dataset['row'], key: 'map', via: 'activate' });
   });
@@ -315,7 +347,8 @@ describe('tm-trends: accessible', () => {
       }
       const rows = [...fig.querySelectorAll('tbody tr')];
       expect(rows, key).to.have.length(n);
-      for (const tr of rows) expect(tr.lastElementChild!.textContent).to.match(/^[●▲▼○] (in range|above target|below target|no target in force)/);
+      for (const tr of rows)
+        expect(tr.lastElementChild!.textContent).to.match(/^[●▲▼○] (in range|above target|below target|no target in force)/);
     }
     const map = h.root.querySelector('#cap-map')!.textContent;
     expect(map).to.match(/^MAP: \d+ values, from/);
@@ -326,7 +359,9 @@ describe('tm-trends: accessible', () => {
     h.el.selectedRowId = h.ws.rows[5]!.id;
     await h.el.updateComplete;
     expect(h.root.querySelectorAll('[style]')).to.have.length(0);
-    const w = window as unknown as { axe?: { run(c: Element, o: object): Promise<{ violations: { id: string; impact?: string | null; nodes: unknown[] }[] }> } };
+    const w = window as unknown as {
+      axe?: { run(c: Element, o: object): Promise<{ violations: { id: string; impact?: string | null; nodes: unknown[] }[] }> };
+    };
     if (!w.axe) {
       await new Promise<void>((resolve, reject) => {
         const s = document.createElement('script');
@@ -337,7 +372,9 @@ describe('tm-trends: accessible', () => {
       });
     }
     const result = await w.axe!.run(h.el, { resultTypes: ['violations'] });
-    const serious = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical').map((v) => `${v.id}: ${JSON.stringify(v.nodes)}`);
+    const serious = result.violations
+      .filter((v) => v.impact === 'serious' || v.impact === 'critical')
+      .map((v) => `${v.id}: ${JSON.stringify(v.nodes)}`);
     expect(serious).to.deep.equal([]);
   });
 });

@@ -32,7 +32,10 @@ const ALL_SETS = ['ssc-hour1', 'sep1', 'ssc2021-targets', 'egdt'];
 const ROWS: RowInput[] = [
   { min: -20, cells: { sbp: 88, dbp: 50, lactate: 4.0, cultures_drawn: true } },
   { min: 15, cells: { map: 60, fluid_ml: 1000, antibiotic: 'ceftriaxone' } },
-  { min: 45, cells: { sbp: 90, dbp: 60, fluid_ml: 1000, norepinephrine: 0.1, epinephrine: 0.05, phenylephrine: 1.0, dopamine: 5, vasopressin: 0.03 } },
+  {
+    min: 45,
+    cells: { sbp: 90, dbp: 60, fluid_ml: 1000, norepinephrine: 0.1, epinephrine: 0.05, phenylephrine: 1.0, dopamine: 5, vasopressin: 0.03 },
+  },
   { min: 405, cells: { map: 65, lactate: 3.6, scvo2: 68, uo_ml: 200 } },
   { min: 420, cells: { map: 95, lactate: 1.8, scvo2: 72, uo_ml: 40 } },
 ];
@@ -137,7 +140,9 @@ describe('target bands come from the goal-set data', () => {
     const reg = new GoalRegistry([
       {
         ...EGDT,
-        goals: EGDT.goals.map((g) => (g.id === 'map' ? { ...g, rule: { ...g.rule, test: { kind: 'range' as const, min: 70, max: 80 } } } : g)),
+        goals: EGDT.goals.map((g) =>
+          g.id === 'map' ? { ...g, rule: { ...g.rule, test: { kind: 'range' as const, min: 70, max: 80 } } } : g,
+        ),
       },
     ]);
     const m2 = trends(sheet(['egdt']), NOW, reg);
@@ -148,7 +153,14 @@ describe('target bands come from the goal-set data', () => {
   });
 
   it('draws no band for a goal that does not apply, and says why', () => {
-    const noPressor = ROWS.map((r) => ({ ...r, cells: Object.fromEntries(Object.entries(r.cells ?? {}).filter(([k]) => !['norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'vasopressin'].includes(k))) }));
+    const noPressor = ROWS.map((r) => ({
+      ...r,
+      cells: Object.fromEntries(
+        Object.entries(r.cells ?? {}).filter(
+          ([k]) => !['norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'vasopressin'].includes(k),
+        ),
+      ),
+    }));
     const m2 = trends(sheet(['ssc2021-targets'], noPressor));
     const s = series(m2, 'map');
     expect(s.bands).toEqual([]);
@@ -232,7 +244,9 @@ describe('markers', () => {
   });
 
   it('marks crystalloid, the antibiotic and cultures at their rows', () => {
-    const ev = m.markers.filter((x) => ['fluid', 'antibiotic', 'cultures'].includes(x.kind)).map((x) => [x.kind, x.rowId, x.minutes, x.symbol, x.short]);
+    const ev = m.markers
+      .filter((x) => ['fluid', 'antibiotic', 'cultures'].includes(x.kind))
+      .map((x) => [x.kind, x.rowId, x.minutes, x.symbol, x.short]);
     expect(ev).toEqual([
       ['cultures', 'r0', -20, 'C', 'cultures'],
       ['fluid', 'r1', 15, '◆', '1000 mL'],
@@ -260,7 +274,9 @@ describe('axes', () => {
     const m = trends(sheet(ALL_SETS, ROWS.slice(0, 2)), T0 + 30 * MIN);
     expect(m.xMax).toBeGreaterThanOrEqual(60);
     expect(m.xMax).toBeLessThan(180);
-    expect(m.laterDeadlines.map((d) => d.minutes)).toEqual(m.markers.filter((d) => d.kind === 'deadline' && d.minutes > m.xMax).map((d) => d.minutes));
+    expect(m.laterDeadlines.map((d) => d.minutes)).toEqual(
+      m.markers.filter((d) => d.kind === 'deadline' && d.minutes > m.xMax).map((d) => d.minutes),
+    );
     expect(m.laterDeadlines.some((d) => d.minutes === 180)).toBe(true);
     expect(m.laterDeadlines.some((d) => d.minutes === 60)).toBe(false);
     // Only the hour after what is charted (15 min) or now (30 min): no chaining from deadline to deadline.
@@ -308,7 +324,9 @@ describe('text alternatives', () => {
 
   it('a sentence per series with the count, first and latest, targets and how many are out', () => {
     const s = series(m, 'map');
-    expect(s.summary).toContain('MAP: 5 values, from 63 mmHg at 07:40, 20 min before time zero to 95 mmHg at 15:00, 7 h 0 min after time zero');
+    expect(s.summary).toContain(
+      'MAP: 5 values, from 63 mmHg at 07:40, 20 min before time zero to 95 mmHg at 15:00, 7 h 0 min after time zero',
+    );
     expect(s.summary).toContain('the latest value is above target');
     expect(s.summary).toContain('2 of 4 values judged are out of range');
   });
@@ -316,11 +334,15 @@ describe('text alternatives', () => {
   it('plain note lines with values, out-of-range marks and targets', () => {
     const lines = trendNoteLines(m);
     expect(lines[0]).toBe('Trends since time zero:');
-    expect(lines).toContain('- Lactate mmol/L: 4 (out) at −20 min, 3.6 (out) at 6 h 45, 1.8 at 7 h; target ≥ 10% below the first value (≤ 3.6 mmol/L) (SSC 2021); ≤ 2 mmol/L (SSC 2021)');
+    expect(lines).toContain(
+      '- Lactate mmol/L: 4 (out) at −20 min, 3.6 (out) at 6 h 45, 1.8 at 7 h; target ≥ 10% below the first value (≤ 3.6 mmol/L) (SSC 2021); ≤ 2 mmol/L (SSC 2021)',
+    );
     expect(lines).toHaveLength(1 + 5);
     // Rows after the summary moment are left out, as the goal engine does.
     const early = trendNoteLines(trends(sheet(), T0 + 50 * MIN));
-    expect(early.find((l) => l.startsWith('- MAP'))).toBe('- MAP mmHg: 63 at −20 min, 60 (out) at 15 min, 70 at 45 min; target ≥ 65 mmHg (SSC 2021); 65–90 mmHg (EGDT)');
+    expect(early.find((l) => l.startsWith('- MAP'))).toBe(
+      '- MAP mmHg: 63 at −20 min, 60 (out) at 15 min, 70 at 45 min; target ≥ 65 mmHg (SSC 2021); 65–90 mmHg (EGDT)',
+    );
   });
 
   it('without time zero, times count from the first row and condition bands wait', () => {

@@ -10,7 +10,10 @@ const el = document.querySelector('tm-trends')!;
 const params = new URLSearchParams(location.search);
 // `?demo` shows the shared fictional demo worksheet (default goal sets; `&egdt` adds EGDT).
 const ws = params.has('demo')
-  ? { ...demoWorksheet(TRENDS_NOW, undefined, 60), ...(params.has('egdt') ? { goalSets: ['ssc-hour1', 'sep1', 'ssc2021-targets', 'egdt'] } : {}) }
+  ? {
+      ...demoWorksheet(TRENDS_NOW, undefined, 60),
+      ...(params.has('egdt') ? { goalSets: ['ssc-hour1', 'sep1', 'ssc2021-targets', 'egdt'] } : {}),
+    }
   : trendsFixture(params.has('defaults') ? ['ssc-hour1', 'sep1', 'ssc2021-targets'] : undefined);
 el.worksheet = ws;
 el.derived = deriveAll(ws).rows;

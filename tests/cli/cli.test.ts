@@ -18,7 +18,11 @@ const AT_MS = Date.parse('2026-03-01T17:00:00Z');
 const BED12 = join(FIXTURES, 'bed12.csv');
 const BED12_TEXT = readFileSync(BED12, 'utf8');
 
-type Report = { timeZero: string | null; at: string; goals: { id: string; status: string; metAt: string | null; minutesFromTimeZero: number | null; deadline: string | null }[] };
+type Report = {
+  timeZero: string | null;
+  at: string;
+  goals: { id: string; status: string; metAt: string | null; minutesFromTimeZero: number | null; deadline: string | null }[];
+};
 const goal = (r: Report, id: string) => r.goals.find((g) => g.id === id);
 /** The demo at a fixed moment: time zero 09:00 +01:00, 130 min before 11:10 +01:00. */
 const DEMO_NOW = Date.parse('2026-03-01T10:10:00Z');
@@ -36,7 +40,19 @@ beforeAll(() => {
 
 describe('child process: status --json', () => {
   it('reads the CSV fixture and gives the --json contract with hand-checked times', { timeout: SPAWN_TIMEOUT }, () => {
-    const r = spawnCli(['status', BED12, '--weight-kg', '70', '--time-zero', '2026-03-01T14:00+01:00', '--time-zero-basis', 'triage', '--at', AT, '--json']);
+    const r = spawnCli([
+      'status',
+      BED12,
+      '--weight-kg',
+      '70',
+      '--time-zero',
+      '2026-03-01T14:00+01:00',
+      '--time-zero-basis',
+      'triage',
+      '--at',
+      AT,
+      '--json',
+    ]);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     const report = JSON.parse(r.stdout) as Report;
@@ -46,19 +62,33 @@ describe('child process: status --json', () => {
     expect(report.timeZero).toBe('2026-03-01T13:00:00.000Z');
     expect(report.at).toBe('2026-03-01T17:00:00.000Z');
     // Antibiotic charted 14:40, time zero 14:00: 40 min; SEP-1 deadline 3 h -> 17:00 (+01:00).
-    expect(goal(report, 'sep1.antibiotics')).toEqual({ id: 'sep1.antibiotics', status: 'met', metAt: '2026-03-01T13:40:00.000Z', minutesFromTimeZero: 40, deadline: '2026-03-01T16:00:00.000Z' });
+    expect(goal(report, 'sep1.antibiotics')).toEqual({
+      id: 'sep1.antibiotics',
+      status: 'met',
+      metAt: '2026-03-01T13:40:00.000Z',
+      minutesFromTimeZero: 40,
+      deadline: '2026-03-01T16:00:00.000Z',
+    });
     // Lactate "45 mg/dL" at 14:15 (read with the unit): 15 min.
     expect(goal(report, 'sep1.lactate')).toMatchObject({ status: 'met', minutesFromTimeZero: 15 });
     expect(goal(report, 'sep1.cultures-before-antibiotics')).toMatchObject({ status: 'met', minutesFromTimeZero: 15 });
     // Hour-1 bundle: antibiotic within 1 h of time zero -> 15:00 (+01:00).
-    expect(goal(report, 'ssc-hour1.antibiotics')).toMatchObject({ status: 'met', minutesFromTimeZero: 40, deadline: '2026-03-01T14:00:00.000Z' });
+    expect(goal(report, 'ssc-hour1.antibiotics')).toMatchObject({
+      status: 'met',
+      minutesFromTimeZero: 40,
+      deadline: '2026-03-01T14:00:00.000Z',
+    });
     // 30 mL/kg of 70 kg = 2100 mL (reference file §16): 1000 mL at 14:40 + 1100 mL at 15:30.
     expect(goal(report, 'sep1.fluids-30')).toMatchObject({ status: 'met', minutesFromTimeZero: 90 });
 
     // The same as the goal engine on the same worksheet, in-process.
     const read = readWorksheetCsv(BED12_TEXT);
     if (!read.ok) throw new Error('fixture');
-    const built = worksheetFromCsvRows(read, { label: 'bed12', weightKg: 70, timeZero: { ...at('2026-03-01T14:00+01:00'), basis: 'triage' } }, 0);
+    const built = worksheetFromCsvRows(
+      read,
+      { label: 'bed12', weightKg: 70, timeZero: { ...at('2026-03-01T14:00+01:00'), basis: 'triage' } },
+      0,
+    );
     if (!built.ok) throw new Error('fixture');
     expect(report).toEqual(statusReport(built.worksheet, worksheetSetIds(built.worksheet), AT_MS));
   });
@@ -110,7 +140,20 @@ describe('child process: review', () => {
     // The CSV has no time zero: the suggestion is used and said on stderr (one line).
     expect(r.stderr.trim().split('\n')).toHaveLength(1);
     expect(r.stderr).toMatch(/bed12\.csv.*suggested time zero 2026-03-01T14:00:00\+01:00/);
-    const report = JSON.parse(r.stdout) as { worksheets: number; goals: { id: string; worksheets: number; applicable: number; met: number; missed: number; pending: number; noData: number; notApplicable: number; medianMinutesToMet: number | null }[] };
+    const report = JSON.parse(r.stdout) as {
+      worksheets: number;
+      goals: {
+        id: string;
+        worksheets: number;
+        applicable: number;
+        met: number;
+        missed: number;
+        pending: number;
+        noData: number;
+        notApplicable: number;
+        medianMinutesToMet: number | null;
+      }[];
+    };
     expect(report.worksheets).toBe(4);
     const sep1 = report.goals.find((g) => g.id === 'sep1.antibiotics');
     // SEP-1 3 h: 30, 90, 40 met; 240 missed. Median of 30, 40, 90 = 40.

@@ -25,7 +25,12 @@ export interface Ran {
 
 /** Runs `node bin/tidemark.mjs ...args` as a child process. */
 export function spawnCli(args: readonly string[], cwd = REPO): Ran {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd, encoding: 'utf8', timeout: 180_000, env: { ...process.env, NODE_NO_WARNINGS: '1' } });
+  const r = spawnSync(process.execPath, [BIN, ...args], {
+    cwd,
+    encoding: 'utf8',
+    timeout: 180_000,
+    env: { ...process.env, NODE_NO_WARNINGS: '1' },
+  });
   if (r.error) throw r.error;
   return { code: r.status ?? -1, stdout: r.stdout, stderr: r.stderr };
 }
@@ -35,8 +40,12 @@ export function runCli(args: readonly string[], files: Record<string, string | s
   let stdout = '';
   let stderr = '';
   const io: CliIo = {
-    stdout: (t) => { stdout += t; },
-    stderr: (t) => { stderr += t; },
+    stdout: (t) => {
+      stdout += t;
+    },
+    stderr: (t) => {
+      stderr += t;
+    },
     readText: (p) => {
       const f = files[p];
       if (typeof f === 'string') return f;

@@ -14,16 +14,48 @@ describe('median', () => {
 
 describe('reviewGoals', () => {
   it('counts applicable as met + missed + pending and keeps no-data and n/a apart', () => {
-    const r = reviewGoals([
-      [{ id: 'sep1.antibiotics', status: 'met', minutesFromTimeZero: 30 }, { id: 'sep1.vasopressor', status: 'not-applicable', minutesFromTimeZero: null }],
-      [{ id: 'sep1.antibiotics', status: 'missed', minutesFromTimeZero: 200 }, { id: 'sep1.vasopressor', status: 'no-data', minutesFromTimeZero: null }],
-      [{ id: 'sep1.antibiotics', status: 'pending', minutesFromTimeZero: null }, { id: 'sep1.vasopressor', status: 'met', minutesFromTimeZero: 100 }],
-    ], '2026-03-01T12:00:00.000Z');
+    const r = reviewGoals(
+      [
+        [
+          { id: 'sep1.antibiotics', status: 'met', minutesFromTimeZero: 30 },
+          { id: 'sep1.vasopressor', status: 'not-applicable', minutesFromTimeZero: null },
+        ],
+        [
+          { id: 'sep1.antibiotics', status: 'missed', minutesFromTimeZero: 200 },
+          { id: 'sep1.vasopressor', status: 'no-data', minutesFromTimeZero: null },
+        ],
+        [
+          { id: 'sep1.antibiotics', status: 'pending', minutesFromTimeZero: null },
+          { id: 'sep1.vasopressor', status: 'met', minutesFromTimeZero: 100 },
+        ],
+      ],
+      '2026-03-01T12:00:00.000Z',
+    );
     expect(r.worksheets).toBe(3);
     expect(r.goals).toEqual([
       // A late completion (missed, 200 min) is not part of the median of met goals.
-      { id: 'sep1.antibiotics', worksheets: 3, applicable: 3, met: 1, missed: 1, pending: 1, noData: 0, notApplicable: 0, medianMinutesToMet: 30 },
-      { id: 'sep1.vasopressor', worksheets: 3, applicable: 1, met: 1, missed: 0, pending: 0, noData: 1, notApplicable: 1, medianMinutesToMet: 100 },
+      {
+        id: 'sep1.antibiotics',
+        worksheets: 3,
+        applicable: 3,
+        met: 1,
+        missed: 1,
+        pending: 1,
+        noData: 0,
+        notApplicable: 0,
+        medianMinutesToMet: 30,
+      },
+      {
+        id: 'sep1.vasopressor',
+        worksheets: 3,
+        applicable: 1,
+        met: 1,
+        missed: 0,
+        pending: 0,
+        noData: 1,
+        notApplicable: 1,
+        medianMinutesToMet: 100,
+      },
     ]);
   });
 });

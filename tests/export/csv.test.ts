@@ -163,11 +163,12 @@ describe('CSV round trip', () => {
     const back = worksheetFromCsvRows(read, { label: ws.label, weightKg: 80, timeZero: ws.timeZero! }, Date.parse('2026-03-01T12:00:00Z'));
     expect(back.ok).toBe(true);
     if (!back.ok) return;
-    const strip = (w: typeof ws) => w.rows.map((r) => ({
-      time: r.time,
-      offset: r.offset,
-      cells: Object.fromEntries(Object.entries(r.cells).map(([k, c]) => [k, { value: c.value, text: c.text, flag: c.flag }])),
-    }));
+    const strip = (w: typeof ws) =>
+      w.rows.map((r) => ({
+        time: r.time,
+        offset: r.offset,
+        cells: Object.fromEntries(Object.entries(r.cells).map(([k, c]) => [k, { value: c.value, text: c.text, flag: c.flag }])),
+      }));
     expect(strip(back.worksheet)).toEqual(strip(ws));
     // And the CSV of the copy is the same text.
     expect(worksheetToCsv(back.worksheet)).toBe(worksheetToCsv(ws));
@@ -242,7 +243,23 @@ describe('hostile input never throws', () => {
   const keys = ['time', 'map', 'lactate', 'note', 'cultures_drawn', 'derived.map', 'bogus', ''];
   const fieldArb = fc.oneof(
     fc.string({ unit: 'binary' }),
-    fc.constantFrom('"', '""', '"a"b', '\r', '\n', '\r\n', ',', '=1+2', '2026-03-01T08:00Z', '2026-02-30T08:00+01:00', '65', '-1e999', 'NaN', '\0', '\uFEFF'),
+    fc.constantFrom(
+      '"',
+      '""',
+      '"a"b',
+      '\r',
+      '\n',
+      '\r\n',
+      ',',
+      '=1+2',
+      '2026-03-01T08:00Z',
+      '2026-02-30T08:00+01:00',
+      '65',
+      '-1e999',
+      'NaN',
+      '\0',
+      '\uFEFF',
+    ),
   );
   it('property: arbitrary text returns ok or errors, never throws', () => {
     fc.assert(

@@ -9,14 +9,20 @@ import fhirPkg from 'fhir';
 const { Fhir, ParseConformance, Versions } = fhirPkg;
 const validator = new Fhir(new ParseConformance(true, Versions.R4));
 
-export interface FhirMessage { severity?: string; message?: string; location?: string; resourceId?: string }
+export interface FhirMessage {
+  severity?: string;
+  message?: string;
+  location?: string;
+  resourceId?: string;
+}
 
 /** Errors, fatals and warnings other than missing terminology. Unexpected properties are errors. */
 export function fhirProblems(resource: object): FhirMessage[] {
   const r = validator.validate(resource, { errorOnUnexpected: true });
-  return (r.messages as FhirMessage[]).filter((m) =>
-    m.severity === 'error' || m.severity === 'fatal' ||
-    (m.severity === 'warning' && !/not found in value set/.test(m.message ?? '')));
+  return (r.messages as FhirMessage[]).filter(
+    (m) =>
+      m.severity === 'error' || m.severity === 'fatal' || (m.severity === 'warning' && !/not found in value set/.test(m.message ?? '')),
+  );
 }
 
 /** All messages (for reporting counts). */

@@ -65,7 +65,10 @@ describe('LOINC codes (reference file §14a)', () => {
   it('every code in the export table is the one in §14a, and only §14a keys have one', () => {
     expect(Object.keys(LOINC).sort()).toEqual(Object.keys(REFERENCE_14A).sort());
     for (const [key, codes] of Object.entries(LOINC)) {
-      expect(codes.map((c) => c.code), key).toEqual(REFERENCE_14A[key]!.loinc);
+      expect(
+        codes.map((c) => c.code),
+        key,
+      ).toEqual(REFERENCE_14A[key]!.loinc);
     }
     expect(LOINC_BODY.weight.code).toBe(REFERENCE_14A_BODY.weight);
     expect(LOINC_BODY.height.code).toBe(REFERENCE_14A_BODY.height);
@@ -75,7 +78,12 @@ describe('LOINC codes (reference file §14a)', () => {
     for (const [key, ref] of Object.entries(REFERENCE_14A)) expect(MEASURES.get(key)!.unit!.ucum, key).toBe(ref.ucum);
   });
   it('every code has a valid LOINC check digit (catches a typo)', () => {
-    const all = [...Object.values(LOINC).flat().map((c) => c.code), ...Object.values(REFERENCE_14A_BODY)];
+    const all = [
+      ...Object.values(LOINC)
+        .flat()
+        .map((c) => c.code),
+      ...Object.values(REFERENCE_14A_BODY),
+    ];
     for (const c of all) expect(loincCheckDigitOk(c), c).toBe(true);
     // The check itself can fail: a transposed digit is caught.
     expect(loincCheckDigitOk('8876-4')).toBe(false);
@@ -114,7 +122,9 @@ describe('worksheetToFhir on the fixture', () => {
     const urls = (bundle.entry ?? []).map((e) => e.fullUrl!);
     expect(new Set(urls).size).toBe(urls.length);
     for (const u of urls) expect(u).toMatch(/^urn:uuid:[0-9a-f]{8}-[0-9a-f]{4}-8[0-9a-f]{3}-[89ab][0-9a-f]{3}-[0-9a-f]{12}$/);
-    const refs = observations(bundle).flatMap((o) => o.derivedFrom ?? []).map((r) => r.reference!);
+    const refs = observations(bundle)
+      .flatMap((o) => o.derivedFrom ?? [])
+      .map((r) => r.reference!);
     expect(refs.length).toBeGreaterThan(0);
     for (const r of refs) expect(urls).toContain(r);
   });
@@ -153,7 +163,10 @@ describe('worksheetToFhir on the fixture', () => {
 
   it('writes a blood pressure panel with SBP/DBP components when both are charted', () => {
     const bp = observations(bundle).find((o) => o.code.coding?.[0]?.code === '85354-9');
-    expect(bp?.component?.map((c) => [c.code.coding?.[0]?.code, c.valueQuantity?.value])).toEqual([['8480-6', 82], ['8462-4', 44]]);
+    expect(bp?.component?.map((c) => [c.code.coding?.[0]?.code, c.valueQuantity?.value])).toEqual([
+      ['8480-6', 82],
+      ['8462-4', 44],
+    ]);
     // The estimated MAP is derived from it: 44 + (82 - 44)/3 = 56.67 (reference file §12 formula),
     // written with one decimal more than shown (0 + 1): 56.7.
     const est = observations(bundle).find((o) => o.code.coding?.[0]?.code === '8478-0' && o.derivedFrom);
@@ -171,7 +184,9 @@ describe('worksheetToFhir on the fixture', () => {
     expect(vaso[0]!.dosage?.rateQuantity).toMatchObject({ value: 0.03, code: '[iU]/min', system: 'http://unitsofmeasure.org' });
     const ne = ma.filter((m) => m.medicationCodeableConcept?.text === 'Norepinephrine');
     expect(ne.map((m) => [m.dosage?.rateQuantity?.value, m.dosage?.rateQuantity?.code, m.status])).toEqual([
-      [0.08, 'ug/kg/min', 'completed'], [0.15, 'ug/kg/min', 'completed'], [0.12, 'ug/kg/min', 'in-progress'],
+      [0.08, 'ug/kg/min', 'completed'],
+      [0.15, 'ug/kg/min', 'completed'],
+      [0.12, 'ug/kg/min', 'in-progress'],
     ]);
     expect(ne[0]!.effectivePeriod).toEqual({ start: '2026-03-01T09:05:00+01:00', end: '2026-03-01T09:40:00+01:00' });
     // Fluids: the amount since the previous row, so the period runs from the previous row to this one.
@@ -192,7 +207,14 @@ describe('worksheetToFhir on the fixture', () => {
     const { FixedClock } = await import('../../src/sheet/clock.js');
     const w = fixtureWorksheet();
     const row = w.rows.find((r) => r.cells['lactate'])!;
-    const fixed = setCell({ clock: new FixedClock(Date.parse('2026-03-01T11:00:00Z')), newId: () => 'fix-1' }, w, row.id, 'lactate', { value: 4.4, flag: 'high' }, 'typo').worksheet;
+    const fixed = setCell(
+      { clock: new FixedClock(Date.parse('2026-03-01T11:00:00Z')), newId: () => 'fix-1' },
+      w,
+      row.id,
+      'lactate',
+      { value: 4.4, flag: 'high' },
+      'typo',
+    ).worksheet;
     const lac = observations(worksheetToFhir(fixed, { atMs })).find((o) => o.code.coding?.[0]?.code === '32693-4');
     expect(lac?.status).toBe('amended');
     expect(lac?.valueQuantity?.value).toBe(4.4);
@@ -216,9 +238,16 @@ describe('worksheetToFhir on the demo worksheet', () => {
 
   it('holds every charted number of the demo, coded, with the demo time zero', () => {
     // One observation (or a BP panel component) per charted number that is not a drug or a volume given.
-    const numbers = ws.rows.flatMap((r) => Object.entries(r.cells)
-      .filter(([k, c]) => typeof c.value === 'number' && !['fluid_ml', 'blood_ml', 'norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'dobutamine', 'vasopressin'].includes(k)));
-    const charted = observations(bundle).filter((o) => !o.derivedFrom && !o.method && o.effectiveDateTime !== undefined && (o.valueQuantity || o.component));
+    const numbers = ws.rows.flatMap((r) =>
+      Object.entries(r.cells).filter(
+        ([k, c]) =>
+          typeof c.value === 'number' &&
+          !['fluid_ml', 'blood_ml', 'norepinephrine', 'epinephrine', 'phenylephrine', 'dopamine', 'dobutamine', 'vasopressin'].includes(k),
+      ),
+    );
+    const charted = observations(bundle).filter(
+      (o) => !o.derivedFrom && !o.method && o.effectiveDateTime !== undefined && (o.valueQuantity || o.component),
+    );
     const count = charted.reduce((s, o) => s + (o.component ? o.component.length : 1), 0);
     // + weight and height observations.
     expect(count).toBe(numbers.length + 2);
@@ -226,7 +255,11 @@ describe('worksheetToFhir on the demo worksheet', () => {
     expect(t0?.valueDateTime).toBe('2026-03-01T09:00:00+01:00');
     // Antibiotic and norepinephrine (three charted rates: 0.05, 0.08, 0.08).
     expect(administrations(bundle).filter((m) => m.medicationCodeableConcept?.text === 'piperacillin-tazobactam 4.5 g IV')).toHaveLength(1);
-    expect(administrations(bundle).filter((m) => m.medicationCodeableConcept?.text === 'Norepinephrine').map((m) => m.dosage?.rateQuantity?.value)).toEqual([0.05, 0.08, 0.08]);
+    expect(
+      administrations(bundle)
+        .filter((m) => m.medicationCodeableConcept?.text === 'Norepinephrine')
+        .map((m) => m.dosage?.rateQuantity?.value),
+    ).toEqual([0.05, 0.08, 0.08]);
     // Crystalloid 500 + 600 + 1000 mL = 2100 mL = 30 mL/kg x 70 kg (reference file §16).
     const fluids = administrations(bundle).filter((m) => m.medicationCodeableConcept?.text === 'Crystalloid');
     expect(fluids.reduce((s, m) => s + (m.dosage?.dose?.value ?? 0), 0)).toBe(2100);

@@ -40,12 +40,37 @@ export function fixtureWorksheet(): Worksheet {
   let ws = createWorksheet(ctx, { label: 'Bed 7 (fictional)', displayOffset: 60, weightKg: 80, heightCm: 178, sex: 'male' });
   ws = setFacts(ctx, ws, { timeZero: { ...at('2026-03-01T08:00+01:00'), basis: 'triage' } }).worksheet;
   const rows: [string, Record<string, string>, number?][] = [
-    ['2026-03-01T08:00+01:00', { sbp: '82', dbp: '44', hr: '118', rr: '26', temp: '38.9', spo2: '93', gcs: '14', infection_suspected: 'yes' }],
-    ['2026-03-01T08:10+01:00', { lactate: '4.6', base_excess: '-5', hb: '11.8', wbc: '17.2', platelets: '140', creatinine: '1.6', bilirubin: '1.1', cultures_drawn: 'x' }, 90],
+    [
+      '2026-03-01T08:00+01:00',
+      { sbp: '82', dbp: '44', hr: '118', rr: '26', temp: '38.9', spo2: '93', gcs: '14', infection_suspected: 'yes' },
+    ],
+    [
+      '2026-03-01T08:10+01:00',
+      {
+        lactate: '4.6',
+        base_excess: '-5',
+        hb: '11.8',
+        wbc: '17.2',
+        platelets: '140',
+        creatinine: '1.6',
+        bilirubin: '1.1',
+        cultures_drawn: 'x',
+      },
+      90,
+    ],
     ['2026-03-01T08:25+01:00', { antibiotic: 'piperacillin-tazobactam 4.5 g', fluid_ml: '1000', map: '58', crt: '4.5' }],
-    ['2026-03-01T09:05+01:00', { fluid_ml: '1400', map: '61', hr: '108', cvp: '6', norepinephrine: '0.08', note: '=HYPERLINK("http://example.invalid","x")' }],
-    ['2026-03-01T09:40+01:00', { map: '67', norepinephrine: '0.15', vasopressin: '0.03', scvo2: '66', uo_ml: '40', perfusion_reassessed: 'bedside exam, CRT 3 s' }],
-    ['2026-03-01T10:30+01:00', { lactate: '2.9', map: '70', crt: '2.5', uo_ml: '60', norepinephrine: '0.12', vasopressin: '0.03', pao2: '82', fio2: '0.4' }],
+    [
+      '2026-03-01T09:05+01:00',
+      { fluid_ml: '1400', map: '61', hr: '108', cvp: '6', norepinephrine: '0.08', note: '=HYPERLINK("http://example.invalid","x")' },
+    ],
+    [
+      '2026-03-01T09:40+01:00',
+      { map: '67', norepinephrine: '0.15', vasopressin: '0.03', scvo2: '66', uo_ml: '40', perfusion_reassessed: 'bedside exam, CRT 3 s' },
+    ],
+    [
+      '2026-03-01T10:30+01:00',
+      { lactate: '2.9', map: '70', crt: '2.5', uo_ml: '60', norepinephrine: '0.12', vasopressin: '0.03', pao2: '82', fio2: '0.4' },
+    ],
   ];
   for (const [time, typed, lateMin] of rows) {
     const t = at(time);

@@ -60,7 +60,9 @@ describe('worksheetNote on the fixture', () => {
   });
 
   it('has the caution, label, time zero with basis and the elapsed time', () => {
-    expect(note).toContain('CAUTION: Decision support only. Defaults follow published guidance and\nmust be checked against local protocols and licensed clinical judgment.');
+    expect(note).toContain(
+      'CAUTION: Decision support only. Defaults follow published guidance and\nmust be checked against local protocols and licensed clinical judgment.',
+    );
     expect(note).toContain('Worksheet: Bed 7 (fictional)');
     expect(note).toContain('Time zero: 2026-03-01 08:00 +01:00, basis: triage.');
     expect(note).toContain('Summary as of: 2026-03-01 11:00 +01:00, 3 h 0 min after time zero.');

@@ -8,7 +8,12 @@ import type { GoalStatus } from '../../src/goals/index.js';
 import { T0, at, iso, rowId, sheet } from './fixture.js';
 
 type S = Pick<GoalStatus, 'id' | 'status' | 'deadline' | 'late'>;
-const s = (id: string, status: GoalStatus['status'], deadlineMin: number | null, late = false): S => ({ id, status, deadline: deadlineMin === null ? null : iso(deadlineMin), late });
+const s = (id: string, status: GoalStatus['status'], deadlineMin: number | null, late = false): S => ({
+  id,
+  status,
+  deadline: deadlineMin === null ? null : iso(deadlineMin),
+  late,
+});
 
 describe('elapsedSinceTimeZero', () => {
   it('is exact and uses the injected clock', () => {
@@ -28,7 +33,17 @@ describe('elapsedSinceTimeZero', () => {
 
 describe('goalClocks', () => {
   it('gives time left for pending, overdue for missed, and seconds in the last 10 minutes', () => {
-    const c = goalClocks([s('a', 'pending', 60), s('b', 'pending', 70), s('c', 'missed', 30), s('d', 'met', 60), s('e', 'pending', null), s('f', 'missed', 30, true)], at(55));
+    const c = goalClocks(
+      [
+        s('a', 'pending', 60),
+        s('b', 'pending', 70),
+        s('c', 'missed', 30),
+        s('d', 'met', 60),
+        s('e', 'pending', null),
+        s('f', 'missed', 30, true),
+      ],
+      at(55),
+    );
     expect(c[0]).toMatchObject({ msLeft: 5 * 60_000, showSeconds: true });
     expect(c[1]).toMatchObject({ msLeft: 15 * 60_000, showSeconds: false });
     expect(c[2]).toMatchObject({ msOverdue: 25 * 60_000, msLeft: null });
@@ -41,7 +56,11 @@ describe('goalClocks', () => {
 
 describe('measureAges', () => {
   it('gives the time since each measure was last charted, ignoring later rows', () => {
-    const ws = sheet({}, [[0, { map: 60, hr: 100 }], [20, { map: 65 }], [90, { map: 70 }]]);
+    const ws = sheet({}, [
+      [0, { map: 60, hr: 100 }],
+      [20, { map: 65 }],
+      [90, { map: 70 }],
+    ]);
     const ages = measureAges(ws, at(50));
     expect(ages.get('map')).toEqual({ key: 'map', lastAt: iso(20), rowId: rowId(1), ageMs: 30 * 60_000 });
     expect(ages.get('hr')?.ageMs).toBe(50 * 60_000);

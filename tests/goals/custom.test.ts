@@ -16,11 +16,22 @@ describe('custom goals', () => {
   it('are evaluated only when "custom" is asked for', () => {
     const ws = sheet({ customGoals: [{ id: 'spo2', label: 'SpO2 at least 92', target: 'spo2 >= 92' }] }, [[0, { spo2: 95 }]]);
     expect(evaluate(ws, ['sep1'], at(10)).some((g) => g.setId === 'custom')).toBe(false);
-    expect(evaluate(ws, ['sep1', 'custom'], at(10)).filter((g) => g.setId === 'custom').map((g) => g.id)).toEqual(['custom.spo2']);
+    expect(
+      evaluate(ws, ['sep1', 'custom'], at(10))
+        .filter((g) => g.setId === 'custom')
+        .map((g) => g.id),
+    ).toEqual(['custom.spo2']);
   });
 
   it('a standing target is met while true at the latest row, with a time-weighted share', () => {
-    const [g] = custom([{ id: 'spo2', label: 'SpO2 at least 92', target: 'spo2 >= 92' }], [[0, { spo2: 90 }], [30, { spo2: 92 }]], 60);
+    const [g] = custom(
+      [{ id: 'spo2', label: 'SpO2 at least 92', target: 'spo2 >= 92' }],
+      [
+        [0, { spo2: 90 }],
+        [30, { spo2: 92 }],
+      ],
+      60,
+    );
     expect(g!.status).toBe('met');
     expect(g!.kind).toBe('custom');
     expect(g!.metAt).toBe(iso(30));
@@ -29,15 +40,44 @@ describe('custom goals', () => {
   });
 
   it('a standing target that became false is pending', () => {
-    const [g] = custom([{ id: 'spo2', label: 'SpO2 at least 92', target: 'spo2 >= 92' }], [[0, { spo2: 95 }], [30, { spo2: 91 }]], 60);
+    const [g] = custom(
+      [{ id: 'spo2', label: 'SpO2 at least 92', target: 'spo2 >= 92' }],
+      [
+        [0, { spo2: 95 }],
+        [30, { spo2: 91 }],
+      ],
+      60,
+    );
     expect(g!.status).toBe('pending');
     expect(g!.failRowIds).toEqual([rowId(1)]);
   });
 
   it('with a deadline: first true at the deadline minute is met, one minute later missed', () => {
-    const goalDef: CustomGoal = { id: 'lac', label: 'Lactate under 2 within 4 h', condition: 'lactate > 2', target: 'lactate < 2', deadlineMinutes: 240 };
-    expect(custom([goalDef], [[0, { lactate: 3.5 }], [240, { lactate: 1.8 }]], 250)[0]!.status).toBe('met');
-    const late = custom([goalDef], [[0, { lactate: 3.5 }], [241, { lactate: 1.8 }]], 250)[0]!;
+    const goalDef: CustomGoal = {
+      id: 'lac',
+      label: 'Lactate under 2 within 4 h',
+      condition: 'lactate > 2',
+      target: 'lactate < 2',
+      deadlineMinutes: 240,
+    };
+    expect(
+      custom(
+        [goalDef],
+        [
+          [0, { lactate: 3.5 }],
+          [240, { lactate: 1.8 }],
+        ],
+        250,
+      )[0]!.status,
+    ).toBe('met');
+    const late = custom(
+      [goalDef],
+      [
+        [0, { lactate: 3.5 }],
+        [241, { lactate: 1.8 }],
+      ],
+      250,
+    )[0]!;
     expect(late.status).toBe('missed');
     expect(late.metAt).toBe(iso(241));
     expect(late.deadline).toBe(iso(240));
@@ -45,7 +85,14 @@ describe('custom goals', () => {
 
   it('uses derived values and helpers (per-kg fluid from the dosing weight)', () => {
     // 30 mL/kg × 70 kg = 2100 mL (reference file §16, derived vector).
-    const [g] = custom([{ id: 'fluid', label: '30 mL/kg in 3 h', target: 'running_sum(fluid_ml) / dosing_weight >= 30', deadlineMinutes: 180 }], [[60, { fluid_ml: 1000 }], [120, { fluid_ml: 1100 }]], 130);
+    const [g] = custom(
+      [{ id: 'fluid', label: '30 mL/kg in 3 h', target: 'running_sum(fluid_ml) / dosing_weight >= 30', deadlineMinutes: 180 }],
+      [
+        [60, { fluid_ml: 1000 }],
+        [120, { fluid_ml: 1100 }],
+      ],
+      130,
+    );
     expect(g!.status).toBe('met');
     expect(g!.metAt).toBe(iso(120));
   });

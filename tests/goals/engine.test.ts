@@ -69,7 +69,14 @@ describe('precedence and time zero', () => {
   });
 
   it('a definitive failure is missed before its deadline (antibiotic before cultures)', () => {
-    const g = goal(sheet({}, [[5, { antibiotic: 'x' }], [10, { cultures_drawn: true }]]), 'sep1.cultures-before-antibiotics', 15);
+    const g = goal(
+      sheet({}, [
+        [5, { antibiotic: 'x' }],
+        [10, { cultures_drawn: true }],
+      ]),
+      'sep1.cultures-before-antibiotics',
+      15,
+    );
     expect(g.status).toBe('missed');
     expect(g.minutesOverdue).toBeNull();
   });
@@ -95,7 +102,10 @@ describe('rows entered out of order', () => {
     const strip = (ws: Worksheet) => evaluate(ws, ALL, at(200)).map((g) => [g.id, g.status, g.metAt, g.deadline]);
     expect(strip(reversed)).toEqual(strip(inOrder));
     // Even a stored worksheet whose rows array is not sorted (e.g. imported) is read in time order.
-    const shuffled: Worksheet = { ...inOrder, rows: [inOrder.rows[3]!, inOrder.rows[0]!, inOrder.rows[4]!, inOrder.rows[2]!, inOrder.rows[1]!] };
+    const shuffled: Worksheet = {
+      ...inOrder,
+      rows: [inOrder.rows[3]!, inOrder.rows[0]!, inOrder.rows[4]!, inOrder.rows[2]!, inOrder.rows[1]!],
+    };
     expect(strip(shuffled)).toEqual(strip(inOrder));
     expect(goal(shuffled, 'sep1.lactate-repeat', 200).metAt).toBe(iso(150));
   });
@@ -143,7 +153,10 @@ describe('daylight-saving change', () => {
 
 describe('statusReport (design.md --json contract)', () => {
   it('has exactly timeZero, at and goals with id, status, metAt, minutesFromTimeZero, deadline', () => {
-    const ws = sheet({ weightKg: 70 }, [[10, { lactate: 4.6 }], [75, { antibiotic: 'x' }]]);
+    const ws = sheet({ weightKg: 70 }, [
+      [10, { lactate: 4.6 }],
+      [75, { antibiotic: 'x' }],
+    ]);
     const r = statusReport(ws, ['ssc-hour1', 'sep1'], at(90));
     expect(Object.keys(r)).toEqual(['timeZero', 'at', 'goals']);
     expect(r.timeZero).toBe(iso(0));
@@ -151,10 +164,18 @@ describe('statusReport (design.md --json contract)', () => {
     expect(r.goals.length).toBe(13);
     for (const g of r.goals) expect(Object.keys(g)).toEqual(['id', 'status', 'metAt', 'minutesFromTimeZero', 'deadline']);
     expect(r.goals.find((g) => g.id === 'sep1.antibiotics')).toEqual({
-      id: 'sep1.antibiotics', status: 'met', metAt: iso(75), minutesFromTimeZero: 75, deadline: iso(180),
+      id: 'sep1.antibiotics',
+      status: 'met',
+      metAt: iso(75),
+      minutesFromTimeZero: 75,
+      deadline: iso(180),
     });
     expect(r.goals.find((g) => g.id === 'ssc-hour1.antibiotics')).toEqual({
-      id: 'ssc-hour1.antibiotics', status: 'missed', metAt: iso(75), minutesFromTimeZero: 75, deadline: iso(60),
+      id: 'ssc-hour1.antibiotics',
+      status: 'missed',
+      metAt: iso(75),
+      minutesFromTimeZero: 75,
+      deadline: iso(60),
     });
     expect(JSON.parse(JSON.stringify(r))).toEqual(r);
   });
@@ -199,7 +220,10 @@ describe('registry: a new set version from data alone', () => {
     const registry = createDefaultRegistry();
     registry.register(JSON.parse(json) as unknown);
     expect(registry.ids()).toContain('example-2026');
-    const ws = sheet({}, [[0, { norepinephrine: 0.1, map: 68 }], [46, { antibiotic: 'x' }]]);
+    const ws = sheet({}, [
+      [0, { norepinephrine: 0.1, map: 68 }],
+      [46, { antibiotic: 'x' }],
+    ]);
     const out = evaluate(ws, ['example-2026'], at(50), { registry });
     expect(out.map((g) => [g.id, g.status])).toEqual([
       ['example-2026.map', 'pending'],

@@ -42,7 +42,10 @@ describe('sep1.antibiotics and sep1.cultures-before-antibiotics', () => {
 
   it('cultures drawn after antibiotics are missed', () => {
     // §3b: blood cultures drawn before antibiotics.
-    const ws = sheet({}, [[40, { antibiotic: 'cefepime' }], [50, { cultures_drawn: true }]]);
+    const ws = sheet({}, [
+      [40, { antibiotic: 'cefepime' }],
+      [50, { cultures_drawn: true }],
+    ]);
     const g = goal(ws, 'sep1.cultures-before-antibiotics', 60);
     expect(g.status).toBe('missed');
     expect(g.failRowIds).toEqual([rowId(0), rowId(1)]);
@@ -68,8 +71,26 @@ describe('sep1.lactate-repeat', () => {
   });
 
   it('is due 6 h after time zero: repeat at 360 met, at 361 missed', () => {
-    expect(goal(sheet({}, [[10, { lactate: 3 }], [360, { lactate: 2 }]]), 'sep1.lactate-repeat', 400).status).toBe('met');
-    expect(goal(sheet({}, [[10, { lactate: 3 }], [361, { lactate: 2 }]]), 'sep1.lactate-repeat', 400).status).toBe('missed');
+    expect(
+      goal(
+        sheet({}, [
+          [10, { lactate: 3 }],
+          [360, { lactate: 2 }],
+        ]),
+        'sep1.lactate-repeat',
+        400,
+      ).status,
+    ).toBe('met');
+    expect(
+      goal(
+        sheet({}, [
+          [10, { lactate: 3 }],
+          [361, { lactate: 2 }],
+        ]),
+        'sep1.lactate-repeat',
+        400,
+      ).status,
+    ).toBe('missed');
   });
 });
 
@@ -77,7 +98,11 @@ describe('sep1.fluids-30', () => {
   // §3b: 30 mL/kg crystalloid within 3 h of initial hypotension or septic shock presentation;
   // §3a septic shock: initial lactate ≥ 4 mmol/L.
   it('applies at an initial lactate of exactly 4.0, due 3 h after it; 70 kg needs 2100 mL (§16)', () => {
-    const ws = sheet({ weightKg: 70 }, [[0, { lactate: 4.0 }], [90, { fluid_ml: 1000 }], [180, { fluid_ml: 1100 }]]);
+    const ws = sheet({ weightKg: 70 }, [
+      [0, { lactate: 4.0 }],
+      [90, { fluid_ml: 1000 }],
+      [180, { fluid_ml: 1100 }],
+    ]);
     const g = goal(ws, 'sep1.fluids-30', 200);
     expect(g.status).toBe('met');
     expect(g.metAt).toBe(iso(180));
@@ -85,7 +110,11 @@ describe('sep1.fluids-30', () => {
   });
 
   it('is missed, with its late completion time, when 30 mL/kg is reached one minute after the deadline', () => {
-    const ws = sheet({ weightKg: 70 }, [[0, { lactate: 4.0 }], [180, { fluid_ml: 2099 }], [181, { fluid_ml: 1 }]]);
+    const ws = sheet({ weightKg: 70 }, [
+      [0, { lactate: 4.0 }],
+      [180, { fluid_ml: 2099 }],
+      [181, { fluid_ml: 1 }],
+    ]);
     const g = goal(ws, 'sep1.fluids-30', 200);
     expect(g.status).toBe('missed');
     expect(g.late).toBe(true);
@@ -98,25 +127,38 @@ describe('sep1.fluids-30', () => {
 
   it('initial hypotension needs two consecutive low readings (our window: 6 h either side of time zero)', () => {
     // §3a initial hypotension: two hypotensive readings (SBP < 90 or MAP < 65) — from memory.
-    const two = sheet({ weightKg: 70 }, [[0, { lactate: 1.5, sbp: 88 }], [15, { map: 64 }]]);
+    const two = sheet({ weightKg: 70 }, [
+      [0, { lactate: 1.5, sbp: 88 }],
+      [15, { map: 64 }],
+    ]);
     const g = goal(two, 'sep1.fluids-30', 20);
     expect(g.status).toBe('pending');
     expect(g.conditionSince).toBe(iso(15));
     expect(g.deadline).toBe(iso(195));
     expect(g.conditionRowIds).toEqual([rowId(0), rowId(1)]);
-    const broken = sheet({ weightKg: 70 }, [[0, { lactate: 1.5, sbp: 88 }], [15, { map: 70 }], [30, { sbp: 86 }]]);
+    const broken = sheet({ weightKg: 70 }, [
+      [0, { lactate: 1.5, sbp: 88 }],
+      [15, { map: 70 }],
+      [30, { sbp: 86 }],
+    ]);
     expect(goal(broken, 'sep1.fluids-30', 40).status).toBe('not-applicable');
   });
 
   it('an SBP drop of more than 40 from baseline does not trigger fluids (organ dysfunction only, our decision)', () => {
-    const ws = sheet({ weightKg: 70, baselineSbp: 150 }, [[0, { lactate: 1.5, sbp: 100, map: 75 }], [15, { sbp: 105, map: 78 }]]);
+    const ws = sheet({ weightKg: 70, baselineSbp: 150 }, [
+      [0, { lactate: 1.5, sbp: 100, map: 75 }],
+      [15, { sbp: 105, map: 78 }],
+    ]);
     expect(goal(ws, 'sep1.fluids-30', 20).status).toBe('not-applicable');
   });
 
   it('uses ideal body weight only when asked and BMI > 30; BMI exactly 30 uses actual weight (§15 #18)', () => {
     // 200 cm, 120 kg → BMI 30.0 exactly; 121 kg → 30.25. Devine male 200 cm: 50 + 2.3 × (200/2.54 − 60)
     // = 93.10 kg (reference file §12), so 30 mL/kg = 2793.1 mL; actual 120 kg → 3600 mL (§16 arithmetic).
-    const rows = (): [number, Record<string, number>][] => [[0, { lactate: 4.5 }], [60, { fluid_ml: 2800 }]];
+    const rows = (): [number, Record<string, number>][] => [
+      [0, { lactate: 4.5 }],
+      [60, { fluid_ml: 2800 }],
+    ];
     const bmi30 = sheet({ weightKg: 120, heightCm: 200, sex: 'male', useIdealWeight: true }, rows());
     const g30 = goal(bmi30, 'sep1.fluids-30', 90);
     expect(g30.status).toBe('pending');
@@ -126,7 +168,7 @@ describe('sep1.fluids-30', () => {
     const gAbove = goal(bmiAbove, 'sep1.fluids-30', 90);
     expect(gAbove.status).toBe('met');
     expect(gAbove.volume?.weightBasis).toBe('ideal');
-    expect(gAbove.volume?.weightKg).toBeCloseTo(93.10, 2);
+    expect(gAbove.volume?.weightKg).toBeCloseTo(93.1, 2);
     expect(gAbove.volume?.targetMl).toBeCloseTo(2793.07, 1);
 
     const notAsked = sheet({ weightKg: 121, heightCm: 200, sex: 'male', useIdealWeight: false }, rows());
@@ -134,7 +176,14 @@ describe('sep1.fluids-30', () => {
   });
 
   it('has no data without a weight', () => {
-    const g = goal(sheet({}, [[0, { lactate: 4.5 }], [60, { fluid_ml: 2800 }]]), 'sep1.fluids-30', 90);
+    const g = goal(
+      sheet({}, [
+        [0, { lactate: 4.5 }],
+        [60, { fluid_ml: 2800 }],
+      ]),
+      'sep1.fluids-30',
+      90,
+    );
     expect(g.status).toBe('no-data');
     expect(g.explanation).toMatch(/weight/);
   });
@@ -144,7 +193,11 @@ describe('sep1.vasopressor', () => {
   // §3b: vasopressor within 6 h of septic shock presentation only if hypotension persists after
   // the 30 mL/kg: two consecutive readings SBP < 90 or MAP < 65 within 1 h after the infusion
   // ends; one normal reading → no; one low reading only → cannot be determined.
-  const fluids: [number, Record<string, number>][] = [[0, { lactate: 2.5 }], [30, { fluid_ml: 1000 }], [60, { fluid_ml: 1100 }]];
+  const fluids: [number, Record<string, number>][] = [
+    [0, { lactate: 2.5 }],
+    [30, { fluid_ml: 1000 }],
+    [60, { fluid_ml: 1100 }],
+  ];
 
   it('applies after two consecutive low readings in the hour after fluids; due 6 h from shock', () => {
     const ws = sheet({ weightKg: 70 }, [...fluids, [80, { map: 62 }], [100, { sbp: 85 }], [110, { norepinephrine: 0.05 }]]);
@@ -155,7 +208,13 @@ describe('sep1.vasopressor', () => {
   });
 
   it('counts the deadline from an earlier shock presentation (initial lactate ≥ 4)', () => {
-    const ws = sheet({ weightKg: 70 }, [[0, { lactate: 4.0 }], [30, { fluid_ml: 1000 }], [60, { fluid_ml: 1100 }], [80, { map: 62 }], [100, { map: 60 }]]);
+    const ws = sheet({ weightKg: 70 }, [
+      [0, { lactate: 4.0 }],
+      [30, { fluid_ml: 1000 }],
+      [60, { fluid_ml: 1100 }],
+      [80, { map: 62 }],
+      [100, { map: 60 }],
+    ]);
     const g = goal(ws, 'sep1.vasopressor', 120);
     expect(g.status).toBe('pending');
     expect(g.deadline).toBe(iso(360));
@@ -182,7 +241,17 @@ describe('sep1.vasopressor', () => {
   });
 
   it('does not apply before the 30 mL/kg is complete; MAP exactly 65 is not low', () => {
-    expect(goal(sheet({ weightKg: 70 }, [[0, { lactate: 2.5 }], [30, { fluid_ml: 1000, map: 60 }], [45, { map: 58 }]]), 'sep1.vasopressor', 50).status).toBe('not-applicable');
+    expect(
+      goal(
+        sheet({ weightKg: 70 }, [
+          [0, { lactate: 2.5 }],
+          [30, { fluid_ml: 1000, map: 60 }],
+          [45, { map: 58 }],
+        ]),
+        'sep1.vasopressor',
+        50,
+      ).status,
+    ).toBe('not-applicable');
     const at65 = sheet({ weightKg: 70 }, [...fluids, [80, { map: 65 }], [100, { map: 65 }]]);
     expect(goal(at65, 'sep1.vasopressor', 130).status).toBe('not-applicable');
   });
@@ -196,16 +265,29 @@ describe('sep1.reassessment', () => {
   });
 
   it('counts only a reassessment charted after the 30 mL/kg is complete (our decision)', () => {
-    const early = sheet({ weightKg: 70 }, [[0, { lactate: 4.0 }], [20, { perfusion_reassessed: true }], [60, { fluid_ml: 2100 }]]);
+    const early = sheet({ weightKg: 70 }, [
+      [0, { lactate: 4.0 }],
+      [20, { perfusion_reassessed: true }],
+      [60, { fluid_ml: 2100 }],
+    ]);
     expect(goal(early, 'sep1.reassessment', 70).status).toBe('pending');
-    const after = sheet({ weightKg: 70 }, [[0, { lactate: 4.0 }], [60, { fluid_ml: 2100 }], [90, { perfusion_reassessed: true }]]);
+    const after = sheet({ weightKg: 70 }, [
+      [0, { lactate: 4.0 }],
+      [60, { fluid_ml: 2100 }],
+      [90, { perfusion_reassessed: true }],
+    ]);
     const g = goal(after, 'sep1.reassessment', 100);
     expect(g.status).toBe('met');
     expect(g.metAt).toBe(iso(90));
   });
 
   it('is due 6 h from septic shock presentation: 360 met, 361 missed', () => {
-    const make = (m: number) => sheet({ weightKg: 70 }, [[0, { lactate: 4.0 }], [60, { fluid_ml: 2100 }], [m, { perfusion_reassessed: true }]]);
+    const make = (m: number) =>
+      sheet({ weightKg: 70 }, [
+        [0, { lactate: 4.0 }],
+        [60, { fluid_ml: 2100 }],
+        [m, { perfusion_reassessed: true }],
+      ]);
     expect(goal(make(360), 'sep1.reassessment', 400).status).toBe('met');
     expect(goal(make(361), 'sep1.reassessment', 400).status).toBe('missed');
   });

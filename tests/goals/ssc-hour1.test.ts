@@ -67,8 +67,24 @@ describe('ssc-hour1.lactate-repeat', () => {
   });
 
   it('is met by a repeat at the deadline minute and missed one minute after', () => {
-    expect(goal(sheet({}, [[10, { lactate: 4.6 }], [250, { lactate: 3.1 }]]), 'ssc-hour1.lactate-repeat', 300).status).toBe('met');
-    const late = goal(sheet({}, [[10, { lactate: 4.6 }], [251, { lactate: 3.1 }]]), 'ssc-hour1.lactate-repeat', 300);
+    expect(
+      goal(
+        sheet({}, [
+          [10, { lactate: 4.6 }],
+          [250, { lactate: 3.1 }],
+        ]),
+        'ssc-hour1.lactate-repeat',
+        300,
+      ).status,
+    ).toBe('met');
+    const late = goal(
+      sheet({}, [
+        [10, { lactate: 4.6 }],
+        [251, { lactate: 3.1 }],
+      ]),
+      'ssc-hour1.lactate-repeat',
+      300,
+    );
     expect(late.status).toBe('missed');
     expect(late.metAt).toBe(iso(251));
   });
@@ -81,7 +97,10 @@ describe('ssc-hour1.lactate-repeat', () => {
 describe('ssc-hour1.cultures-before-antibiotics', () => {
   // §2 element 2: obtain blood cultures before antibiotics; bundle window 1 h.
   it('is met when cultures come before the first antibiotic', () => {
-    const ws = sheet({}, [[10, { cultures_drawn: true }], [30, { antibiotic: 'ceftriaxone 2 g' }]]);
+    const ws = sheet({}, [
+      [10, { cultures_drawn: true }],
+      [30, { antibiotic: 'ceftriaxone 2 g' }],
+    ]);
     const g = goal(ws, 'ssc-hour1.cultures-before-antibiotics', 40);
     expect(g.status).toBe('met');
     expect(g.metAt).toBe(iso(10));
@@ -89,7 +108,10 @@ describe('ssc-hour1.cultures-before-antibiotics', () => {
   });
 
   it('is missed when cultures are drawn after antibiotics, even within the hour', () => {
-    const ws = sheet({}, [[20, { antibiotic: 'ceftriaxone 2 g' }], [30, { cultures_drawn: true }]]);
+    const ws = sheet({}, [
+      [20, { antibiotic: 'ceftriaxone 2 g' }],
+      [30, { cultures_drawn: true }],
+    ]);
     const g = goal(ws, 'ssc-hour1.cultures-before-antibiotics', 40);
     expect(g.status).toBe('missed');
     expect(g.metAt).toBe(iso(30));
@@ -129,9 +151,15 @@ describe('ssc-hour1.antibiotics', () => {
 describe('ssc-hour1.fluids-30', () => {
   // §2 element 4: begin rapid 30 mL/kg crystalloid for hypotension or lactate ≥ 4 mmol/L.
   it('applies at lactate exactly 4.0 and not at 3.9 with normal pressure', () => {
-    const four = sheet({ weightKg: 70 }, [[0, { sbp: 120, dbp: 70 }], [15, { lactate: 4.0 }]]);
+    const four = sheet({ weightKg: 70 }, [
+      [0, { sbp: 120, dbp: 70 }],
+      [15, { lactate: 4.0 }],
+    ]);
     expect(goal(four, 'ssc-hour1.fluids-30', 20).status).toBe('pending');
-    const below = sheet({ weightKg: 70 }, [[0, { sbp: 120, dbp: 70 }], [15, { lactate: 3.9 }]]);
+    const below = sheet({ weightKg: 70 }, [
+      [0, { sbp: 120, dbp: 70 }],
+      [15, { lactate: 3.9 }],
+    ]);
     expect(goal(below, 'ssc-hour1.fluids-30', 20).status).toBe('not-applicable');
   });
 
@@ -142,13 +170,21 @@ describe('ssc-hour1.fluids-30', () => {
   });
 
   it('is due 60 min after a lactate ≥ 4 that comes after time zero, and met by the first crystalloid then', () => {
-    const onTime = sheet({ weightKg: 70 }, [[0, { sbp: 120, dbp: 70 }], [30, { lactate: 4.2 }], [90, { fluid_ml: 500 }]]);
+    const onTime = sheet({ weightKg: 70 }, [
+      [0, { sbp: 120, dbp: 70 }],
+      [30, { lactate: 4.2 }],
+      [90, { fluid_ml: 500 }],
+    ]);
     const g = goal(onTime, 'ssc-hour1.fluids-30', 95);
     expect(g.deadline).toBe(iso(90));
     expect(g.status).toBe('met');
     // Volume shown against 30 mL/kg × 70 kg = 2100 mL (reference file §16 derived vector).
     expect(g.volume).toMatchObject({ givenMl: 500, targetMl: 2100, weightBasis: 'actual' });
-    const late = sheet({ weightKg: 70 }, [[0, { sbp: 120, dbp: 70 }], [30, { lactate: 4.2 }], [91, { fluid_ml: 500 }]]);
+    const late = sheet({ weightKg: 70 }, [
+      [0, { sbp: 120, dbp: 70 }],
+      [30, { lactate: 4.2 }],
+      [91, { fluid_ml: 500 }],
+    ]);
     expect(goal(late, 'ssc-hour1.fluids-30', 95).status).toBe('missed');
   });
 
@@ -160,18 +196,28 @@ describe('ssc-hour1.fluids-30', () => {
 describe('ssc-hour1.vasopressor', () => {
   // §2 element 5: vasopressors if hypotensive during or after fluid resuscitation to keep MAP ≥ 65.
   it('applies to a MAP below 65 at or after the first crystalloid, due 60 min later', () => {
-    const ws = sheet({ weightKg: 70 }, [[10, { fluid_ml: 500, map: 62 }], [70, { norepinephrine: 0.05 }]]);
+    const ws = sheet({ weightKg: 70 }, [
+      [10, { fluid_ml: 500, map: 62 }],
+      [70, { norepinephrine: 0.05 }],
+    ]);
     const g = goal(ws, 'ssc-hour1.vasopressor', 75);
     expect(g.conditionSince).toBe(iso(10));
     expect(g.deadline).toBe(iso(70));
     expect(g.status).toBe('met');
-    const late = sheet({ weightKg: 70 }, [[10, { fluid_ml: 500, map: 62 }], [71, { norepinephrine: 0.05 }]]);
+    const late = sheet({ weightKg: 70 }, [
+      [10, { fluid_ml: 500, map: 62 }],
+      [71, { norepinephrine: 0.05 }],
+    ]);
     expect(goal(late, 'ssc-hour1.vasopressor', 75).status).toBe('missed');
   });
 
   it('does not apply at MAP exactly 65, nor to a low MAP charted only before fluids', () => {
     expect(goal(sheet({ weightKg: 70 }, [[10, { fluid_ml: 500, map: 65 }]]), 'ssc-hour1.vasopressor', 20).status).toBe('not-applicable');
-    const before = sheet({ weightKg: 70 }, [[0, { map: 60 }], [10, { fluid_ml: 500 }], [20, { map: 70 }]]);
+    const before = sheet({ weightKg: 70 }, [
+      [0, { map: 60 }],
+      [10, { fluid_ml: 500 }],
+      [20, { map: 70 }],
+    ]);
     expect(goal(before, 'ssc-hour1.vasopressor', 30).status).toBe('not-applicable');
   });
 
@@ -180,6 +226,8 @@ describe('ssc-hour1.vasopressor', () => {
     const ws = sheet({ weightKg: 70 }, [[10, { fluid_ml: 500, sbp: 90, dbp: 50 }]]);
     expect(goal(ws, 'ssc-hour1.vasopressor', 20).status).toBe('pending');
     // 120/80 → 93.3, not low.
-    expect(goal(sheet({ weightKg: 70 }, [[10, { fluid_ml: 500, sbp: 120, dbp: 80 }]]), 'ssc-hour1.vasopressor', 20).status).toBe('not-applicable');
+    expect(goal(sheet({ weightKg: 70 }, [[10, { fluid_ml: 500, sbp: 120, dbp: 80 }]]), 'ssc-hour1.vasopressor', 20).status).toBe(
+      'not-applicable',
+    );
   });
 });

@@ -32,7 +32,13 @@ describe('SEP-1 organ dysfunction (§3a; §15 #7: SBP drop exactly 40 is not hyp
   });
   it('just past each threshold it counts', () => {
     expect(crit({ sbp: 89, map: 64, creatinine: 2.01, bilirubin: 2.1, platelets: 99, inr: 1.6, lactate: 2.1 })).toEqual([
-      'sbp', 'map', 'creatinine', 'bilirubin', 'platelets', 'inr', 'lactate',
+      'sbp',
+      'map',
+      'creatinine',
+      'bilirubin',
+      'platelets',
+      'inr',
+      'lactate',
     ]);
   });
   it('SBP drop of 40 from baseline does not count; 41 does', () => {
@@ -49,10 +55,12 @@ describe('SEP-1 organ dysfunction (§3a; §15 #7: SBP drop exactly 40 is not hyp
     expect(hits.map((x) => x.rowId)).toEqual(['c']);
     expect(hits[0]!.rowIds).toEqual(['a', 'b', 'c']);
     // A rate of exactly 0.5 breaks the run.
-    expect(sep1Oliguria([
-      { rowId: 'a', startMs: 0, endMs: h, rate: 0.4 },
-      { rowId: 'b', startMs: h, endMs: 2 * h, rate: 0.5 },
-    ])).toEqual([]);
+    expect(
+      sep1Oliguria([
+        { rowId: 'a', startMs: 0, endMs: h, rate: 0.4 },
+        { rowId: 'b', startMs: h, endMs: 2 * h, rate: 0.5 },
+      ]),
+    ).toEqual([]);
   });
 });
 
@@ -71,30 +79,52 @@ describe('suggestTimeZero: severe sepsis presentation', () => {
   });
 
   it('needs all three within 6 h: 360 min apart counts, 361 min does not', () => {
-    const inWindow = sheet({ t0: null }, [[0, { infection_suspected: true }], [100, { hr: 100, rr: 24 }], [360, { sbp: 85 }]]);
+    const inWindow = sheet({ t0: null }, [
+      [0, { infection_suspected: true }],
+      [100, { hr: 100, rr: 24 }],
+      [360, { sbp: 85 }],
+    ]);
     expect(suggestTimeZero(inWindow).severeSepsis?.time).toBe(iso(360));
-    const outside = sheet({ t0: null }, [[0, { infection_suspected: true }], [100, { hr: 100, rr: 24 }], [361, { sbp: 85 }]]);
+    const outside = sheet({ t0: null }, [
+      [0, { infection_suspected: true }],
+      [100, { hr: 100, rr: 24 }],
+      [361, { sbp: 85 }],
+    ]);
     const s = suggestTimeZero(outside);
     expect(s.severeSepsis).toBeNull();
     expect(s.notes[0]).toMatch(/No severe sepsis presentation found/);
   });
 
   it('needs two distinct SIRS criteria (the same one twice is not enough)', () => {
-    const ws = sheet({ t0: null }, [[0, { infection_suspected: true, hr: 100 }], [30, { hr: 105, lactate: 3 }]]);
+    const ws = sheet({ t0: null }, [
+      [0, { infection_suspected: true, hr: 100 }],
+      [30, { hr: 105, lactate: 3 }],
+    ]);
     expect(suggestTimeZero(ws).severeSepsis).toBeNull();
   });
 
   it('uses an SBP drop > 40 from the baseline and 2 h of low urine as organ dysfunction', () => {
-    const drop = sheet({ t0: null, baselineSbp: 150 }, [[0, { infection_suspected: true, hr: 100, rr: 24 }], [20, { sbp: 109 }]]);
+    const drop = sheet({ t0: null, baselineSbp: 150 }, [
+      [0, { infection_suspected: true, hr: 100, rr: 24 }],
+      [20, { sbp: 109 }],
+    ]);
     expect(suggestTimeZero(drop).severeSepsis?.time).toBe(iso(20));
-    const urine = sheet({ t0: null, weightKg: 70 }, [[0, { infection_suspected: true, hr: 100, rr: 24 }], [60, { uo_ml: 20 }], [120, { uo_ml: 20 }]]);
+    const urine = sheet({ t0: null, weightKg: 70 }, [
+      [0, { infection_suspected: true, hr: 100, rr: 24 }],
+      [60, { uo_ml: 20 }],
+      [120, { uo_ml: 20 }],
+    ]);
     const s = suggestTimeZero(urine);
     expect(s.severeSepsis?.time).toBe(iso(120));
     expect(s.severeSepsis?.criteria.map((c) => c.criterion)).toContain('organ:urine');
   });
 
   it('finds criteria in rows entered out of order and never changes the worksheet', () => {
-    const ws = sheet({ t0: null }, [[60, { lactate: 2.6 }], [30, { temp: 38.9, hr: 112 }], [0, { infection_suspected: true }]]);
+    const ws = sheet({ t0: null }, [
+      [60, { lactate: 2.6 }],
+      [30, { temp: 38.9, hr: 112 }],
+      [0, { infection_suspected: true }],
+    ]);
     const before = JSON.stringify(ws);
     expect(suggestTimeZero(ws).severeSepsis?.time).toBe(iso(60));
     expect(JSON.stringify(ws)).toBe(before);
@@ -102,7 +132,10 @@ describe('suggestTimeZero: severe sepsis presentation', () => {
   });
 
   it('ignores rows after the asked moment', () => {
-    const ws = sheet({ t0: null }, [[0, { infection_suspected: true, hr: 100, rr: 24 }], [90, { lactate: 3 }]]);
+    const ws = sheet({ t0: null }, [
+      [0, { infection_suspected: true, hr: 100, rr: 24 }],
+      [90, { lactate: 3 }],
+    ]);
     expect(suggestTimeZero(ws, at(60)).severeSepsis).toBeNull();
     expect(suggestTimeZero(ws, at(90)).severeSepsis?.time).toBe(iso(90));
   });
@@ -110,7 +143,10 @@ describe('suggestTimeZero: severe sepsis presentation', () => {
 
 describe('suggestTimeZero: septic shock presentation', () => {
   it('initial lactate exactly 4.0 → shock at the later of severe sepsis and the lactate', () => {
-    const ws = sheet({ t0: null, weightKg: 70 }, [[0, { infection_suspected: true, hr: 100, rr: 24, sbp: 85 }], [20, { lactate: 4.0 }]]);
+    const ws = sheet({ t0: null, weightKg: 70 }, [
+      [0, { infection_suspected: true, hr: 100, rr: 24, sbp: 85 }],
+      [20, { lactate: 4.0 }],
+    ]);
     const s = suggestTimeZero(ws);
     expect(s.severeSepsis?.time).toBe(iso(0));
     expect(s.septicShock?.time).toBe(iso(20));
@@ -118,7 +154,10 @@ describe('suggestTimeZero: septic shock presentation', () => {
   });
 
   it('lactate before severe sepsis presentation gives shock at the presentation time, never earlier', () => {
-    const ws = sheet({ t0: null, weightKg: 70 }, [[0, { lactate: 4.5 }], [30, { infection_suspected: true, hr: 100, rr: 24 }]]);
+    const ws = sheet({ t0: null, weightKg: 70 }, [
+      [0, { lactate: 4.5 }],
+      [30, { infection_suspected: true, hr: 100, rr: 24 }],
+    ]);
     const s = suggestTimeZero(ws);
     expect(s.severeSepsis?.time).toBe(iso(30));
     expect(s.septicShock?.time).toBe(iso(30));

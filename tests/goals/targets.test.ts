@@ -25,7 +25,11 @@ describe('ssc2021-targets.map', () => {
   it('counts MAP only from when the vasopressor started, and gives the time-weighted share', () => {
     // Share definition (ours): from the first value in the window to now, each value holds until the next.
     // MAP 70 before the vasopressor is ignored; 60 at 10 (start), 70 at 40, now 70 → 30 of 60 min in range.
-    const ws = sheet({}, [[0, { map: 70 }], [10, { norepinephrine: 0.05, map: 60 }], [40, { map: 70 }]]);
+    const ws = sheet({}, [
+      [0, { map: 70 }],
+      [10, { norepinephrine: 0.05, map: 60 }],
+      [40, { map: 70 }],
+    ]);
     const g = goal(ws, 'ssc2021-targets.map', 70);
     expect(g.status).toBe('met');
     expect(g.metAt).toBe(iso(40));
@@ -42,7 +46,10 @@ describe('ssc2021-targets.map', () => {
   });
 
   it('a target reached then lost is pending again', () => {
-    const ws = sheet({}, [[0, { norepinephrine: 0.05, map: 70 }], [30, { map: 60 }]]);
+    const ws = sheet({}, [
+      [0, { norepinephrine: 0.05, map: 70 }],
+      [30, { map: 60 }],
+    ]);
     const g = goal(ws, 'ssc2021-targets.map', 40);
     expect(g.status).toBe('pending');
     expect(g.target?.inRangeNow).toBe(false);
@@ -54,25 +61,77 @@ describe('ssc2021-targets.lactate-falling and lactate-normal', () => {
   // §1 rec. 7: guide resuscitation to decrease raised lactate. Our figure: ≥ 10% fall, the Jones 2010
   // lactate-clearance goal (§8). §15 #19: (4.0 − 3.6)/4.0 × 100 = 9.999999999999998 in IEEE-754.
   it('4.0 → 3.6 is exactly a 10% fall and counts as falling', () => {
-    const g = goal(sheet({}, [[0, { lactate: 4.0 }], [120, { lactate: 3.6 }]]), 'ssc2021-targets.lactate-falling', 130);
+    const g = goal(
+      sheet({}, [
+        [0, { lactate: 4.0 }],
+        [120, { lactate: 3.6 }],
+      ]),
+      'ssc2021-targets.lactate-falling',
+      130,
+    );
     expect(g.status).toBe('met');
     expect(g.metAt).toBe(iso(120));
   });
 
   it('4.0 → 3.61 (9.75%) is not falling enough; 4.0 → 3.5 (12.5%) is', () => {
-    expect(goal(sheet({}, [[0, { lactate: 4.0 }], [120, { lactate: 3.61 }]]), 'ssc2021-targets.lactate-falling', 130).status).toBe('pending');
-    expect(goal(sheet({}, [[0, { lactate: 4.0 }], [120, { lactate: 3.5 }]]), 'ssc2021-targets.lactate-falling', 130).status).toBe('met');
+    expect(
+      goal(
+        sheet({}, [
+          [0, { lactate: 4.0 }],
+          [120, { lactate: 3.61 }],
+        ]),
+        'ssc2021-targets.lactate-falling',
+        130,
+      ).status,
+    ).toBe('pending');
+    expect(
+      goal(
+        sheet({}, [
+          [0, { lactate: 4.0 }],
+          [120, { lactate: 3.5 }],
+        ]),
+        'ssc2021-targets.lactate-falling',
+        130,
+      ).status,
+    ).toBe('met');
   });
 
   it('has no data with one lactate, and does not apply when lactate was never above 2.0', () => {
     expect(goal(sheet({}, [[0, { lactate: 4.0 }]]), 'ssc2021-targets.lactate-falling', 10).status).toBe('no-data');
-    expect(goal(sheet({}, [[0, { lactate: 2.0 }], [60, { lactate: 1.5 }]]), 'ssc2021-targets.lactate-falling', 70).status).toBe('not-applicable');
+    expect(
+      goal(
+        sheet({}, [
+          [0, { lactate: 2.0 }],
+          [60, { lactate: 1.5 }],
+        ]),
+        'ssc2021-targets.lactate-falling',
+        70,
+      ).status,
+    ).toBe('not-applicable');
     expect(goal(sheet({}, [[0, { lactate: 2.0 }]]), 'ssc2021-targets.lactate-normal', 10).status).toBe('not-applicable');
   });
 
   it('lactate-normal: exactly 2.0 is normal, 2.1 is not', () => {
-    expect(goal(sheet({}, [[0, { lactate: 4.0 }], [120, { lactate: 2.0 }]]), 'ssc2021-targets.lactate-normal', 130).status).toBe('met');
-    expect(goal(sheet({}, [[0, { lactate: 4.0 }], [120, { lactate: 2.1 }]]), 'ssc2021-targets.lactate-normal', 130).status).toBe('pending');
+    expect(
+      goal(
+        sheet({}, [
+          [0, { lactate: 4.0 }],
+          [120, { lactate: 2.0 }],
+        ]),
+        'ssc2021-targets.lactate-normal',
+        130,
+      ).status,
+    ).toBe('met');
+    expect(
+      goal(
+        sheet({}, [
+          [0, { lactate: 4.0 }],
+          [120, { lactate: 2.1 }],
+        ]),
+        'ssc2021-targets.lactate-normal',
+        130,
+      ).status,
+    ).toBe('pending');
   });
 });
 
@@ -93,20 +152,49 @@ describe('ssc2021-targets.crt', () => {
 describe('ssc2021-targets.urine-output', () => {
   // 0.5 mL/kg/h: Rivers 2001 / SSC 2008 protocol (§4, §13); rate = mL / (kg × h) (§13).
   it('35 mL over 1 h at 70 kg is exactly 0.5 mL/kg/h (met); 34 mL is not', () => {
-    expect(goal(sheet({ weightKg: 70 }, [[0, { hr: 100 }], [60, { uo_ml: 35 }]]), 'ssc2021-targets.urine-output', 60).status).toBe('met');
-    expect(goal(sheet({ weightKg: 70 }, [[0, { hr: 100 }], [60, { uo_ml: 34 }]]), 'ssc2021-targets.urine-output', 60).status).toBe('pending');
+    expect(
+      goal(
+        sheet({ weightKg: 70 }, [
+          [0, { hr: 100 }],
+          [60, { uo_ml: 35 }],
+        ]),
+        'ssc2021-targets.urine-output',
+        60,
+      ).status,
+    ).toBe('met');
+    expect(
+      goal(
+        sheet({ weightKg: 70 }, [
+          [0, { hr: 100 }],
+          [60, { uo_ml: 34 }],
+        ]),
+        'ssc2021-targets.urine-output',
+        60,
+      ).status,
+    ).toBe('pending');
   });
 
   it('weights the share by the interval each urine amount covers', () => {
     // 0–60: 20 mL (0.29, out), 60–180: 120 mL (0.71, in) → 120 of 180 min in range.
-    const ws = sheet({ weightKg: 70 }, [[0, { hr: 100 }], [60, { uo_ml: 20 }], [180, { uo_ml: 120 }]]);
+    const ws = sheet({ weightKg: 70 }, [
+      [0, { hr: 100 }],
+      [60, { uo_ml: 20 }],
+      [180, { uo_ml: 120 }],
+    ]);
     const g = goal(ws, 'ssc2021-targets.urine-output', 200);
     expect(g.target?.shareInRange).toBeCloseTo(120 / 180, 10);
     expect(g.target?.chartedMinutes).toBe(180);
   });
 
   it('has no data without a weight (per-kg goal)', () => {
-    const g = goal(sheet({}, [[0, { hr: 100 }], [60, { uo_ml: 35 }]]), 'ssc2021-targets.urine-output', 60);
+    const g = goal(
+      sheet({}, [
+        [0, { hr: 100 }],
+        [60, { uo_ml: 35 }],
+      ]),
+      'ssc2021-targets.urine-output',
+      60,
+    );
     expect(g.status).toBe('no-data');
     expect(g.explanation).toMatch(/weight/);
   });
@@ -116,7 +204,12 @@ describe('egdt targets', () => {
   // §4: CVP 8–12 mmHg, MAP 65–90 mmHg, ScvO2 ≥ 70%, urine ≥ 0.5 mL/kg/h, Hct ≥ 30% when ScvO2 < 70%,
   // within the first 6 h.
   it('CVP 8 and 12 are in range; 7 and 13 are not', () => {
-    for (const [v, s] of [[8, 'met'], [12, 'met'], [7, 'pending'], [13, 'pending']] as const) {
+    for (const [v, s] of [
+      [8, 'met'],
+      [12, 'met'],
+      [7, 'pending'],
+      [13, 'pending'],
+    ] as const) {
       expect(goal(sheet({}, [[30, { cvp: v }]]), 'egdt.cvp', 40).status).toBe(s);
     }
   });
@@ -128,10 +221,24 @@ describe('egdt targets', () => {
   });
 
   it('ScvO2 first reached 70% at the 6-h minute is met; at 361 min it is missed though in range now', () => {
-    const onTime = goal(sheet({}, [[60, { scvo2: 65 }], [360, { scvo2: 70 }]]), 'egdt.scvo2', 400);
+    const onTime = goal(
+      sheet({}, [
+        [60, { scvo2: 65 }],
+        [360, { scvo2: 70 }],
+      ]),
+      'egdt.scvo2',
+      400,
+    );
     expect(onTime.status).toBe('met');
     expect(onTime.deadline).toBe(iso(360));
-    const late = goal(sheet({}, [[60, { scvo2: 65 }], [361, { scvo2: 70 }]]), 'egdt.scvo2', 400);
+    const late = goal(
+      sheet({}, [
+        [60, { scvo2: 65 }],
+        [361, { scvo2: 70 }],
+      ]),
+      'egdt.scvo2',
+      400,
+    );
     expect(late.status).toBe('missed');
     expect(late.late).toBe(true);
     expect(late.target?.inRangeNow).toBe(true);
@@ -150,6 +257,15 @@ describe('egdt targets', () => {
   });
 
   it('urine output 0.5 mL/kg/h is in range', () => {
-    expect(goal(sheet({ weightKg: 80 }, [[0, { hr: 90 }], [60, { uo_ml: 40 }]]), 'egdt.urine-output', 60).status).toBe('met');
+    expect(
+      goal(
+        sheet({ weightKg: 80 }, [
+          [0, { hr: 90 }],
+          [60, { uo_ml: 40 }],
+        ]),
+        'egdt.urine-output',
+        60,
+      ).status,
+    ).toBe('met');
   });
 });

@@ -44,7 +44,10 @@ async function type(el: TmCustomGoals, name: string, text: string): Promise<void
   await el.updateComplete;
 }
 
-async function addGoal(el: TmCustomGoals, g: { label: string; id?: string; condition?: string; target: string; deadline?: string }): Promise<void> {
+async function addGoal(
+  el: TmCustomGoals,
+  g: { label: string; id?: string; condition?: string; target: string; deadline?: string },
+): Promise<void> {
   $<HTMLButtonElement>(el, '#add').click();
   await el.updateComplete;
   await type(el, 'label', g.label);
@@ -80,8 +83,12 @@ describe('tm-custom-goals: evaluation on the rows', () => {
     const texts = FIX_ROWS.map((r) => (r.sbp === undefined ? 'needs sbp' : r.sbp >= 90 ? 'true' : 'false'));
     expect(texts).to.deep.equal(['false', 'true', 'true', 'needs sbp']);
     const line = $(el, '.editor [id^="target-rows-"]').textContent.replace(/\s+/g, ' ').trim();
-    expect(line).to.equal(`Target, on the rows: false at ${clock(0)}; true at ${clock(40)} to ${clock(70)} (2 rows); needs sbp at ${clock(100)}`);
-    const cells = [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent.replace(/[✓\s]+/g, ' ').trim()));
+    expect(line).to.equal(
+      `Target, on the rows: false at ${clock(0)}; true at ${clock(40)} to ${clock(70)} (2 rows); needs sbp at ${clock(100)}`,
+    );
+    const cells = [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) =>
+      [...tr.querySelectorAll('td')].map((td) => td.textContent.replace(/[✓\s]+/g, ' ').trim()),
+    );
     expect(cells).to.deep.equal(FIX_ROWS.map((r, i) => [clock(r.min), texts[i] === 'needs sbp' ? 'no value: needs sbp' : texts[i]]));
   });
 

@@ -156,7 +156,9 @@ describe('tm-grid at 5,000 rows: keyboard model (APG data grid)', () => {
 
     await press('PageDown');
     const afterPage = rowIndexOf(focusedCell(g));
-    expect(afterPage).to.be.above(42 + 2).and.below(42 + 12); // a 480 px page of 48 px rows, less one
+    expect(afterPage)
+      .to.be.above(42 + 2)
+      .and.below(42 + 12); // a 480 px page of 48 px rows, less one
     expect(inView(g, focusedCell(g))).to.equal(true);
     await press('PageUp');
     expect(rowIndexOf(focusedCell(g))).to.equal(42);
@@ -219,15 +221,16 @@ describe('tm-grid at 5,000 rows: accessibility scan (axe-core)', () => {
     await settle(g);
     const axe = await loadAxe();
     const result = await axe.run(g, { resultTypes: ['violations'] });
-    const serious = result.violations
-      .filter((v) => v.impact === 'serious' || v.impact === 'critical')
-      .map((v) => `${v.id}: ${v.help}`);
+    const serious = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical').map((v) => `${v.id}: ${v.help}`);
     expect(serious).to.deep.equal([]);
   });
 });
 
 interface AxeLike {
-  run(context: Element, options: { resultTypes: string[] }): Promise<{ violations: { id: string; impact?: string | null; help: string }[] }>;
+  run(
+    context: Element,
+    options: { resultTypes: string[] },
+  ): Promise<{ violations: { id: string; impact?: string | null; help: string }[] }>;
 }
 
 async function loadAxe(): Promise<AxeLike> {

@@ -90,7 +90,12 @@ export async function serveAgain(built: ServedApp): Promise<ServedApp> {
   const origin = `http://127.0.0.1:${port}`;
   const requests: string[] = [];
   server.on('request', (req) => requests.push(`${req.method} ${req.url}`));
-  return { url: `${origin}/`, origin, csp: built.csp, dir: built.dir, requests,
+  return {
+    url: `${origin}/`,
+    origin,
+    csp: built.csp,
+    dir: built.dir,
+    requests,
     close: () =>
       new Promise<void>((r) => {
         server.close(() => r());

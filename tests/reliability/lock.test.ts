@@ -78,7 +78,9 @@ describe('key derivation and sealing format', () => {
   it('WebCrypto PBKDF2-HMAC-SHA256 matches the RFC 7914 §11 test vectors', async () => {
     const derive = async (p: string, s: string, c: number) => {
       const base = await crypto.subtle.importKey('raw', new TextEncoder().encode(p), 'PBKDF2', false, ['deriveBits']);
-      return Buffer.from(await crypto.subtle.deriveBits({ name: 'PBKDF2', salt: new TextEncoder().encode(s), iterations: c, hash: 'SHA-256' }, base, 512)).toString('hex');
+      return Buffer.from(
+        await crypto.subtle.deriveBits({ name: 'PBKDF2', salt: new TextEncoder().encode(s), iterations: c, hash: 'SHA-256' }, base, 512),
+      ).toString('hex');
     };
     // RFC 7914 §11, PBKDF2-HMAC-SHA256 vectors 1 and 2.
     expect(await derive('passwd', 'salt', 1)).toBe(
@@ -194,7 +196,11 @@ describe('a locked notebook', () => {
     await enableLock(tabA, PASS, { iterations: FAST });
     const before = await rawDump();
     const stale = await tabB.commit(setCell(ctx, ws, ws.rows[0]!.id, 'rr', { value: 30 }), ws.rev);
-    expect(stale).toMatchObject({ ok: false, reason: 'closed', message: expect.stringMatching(/lock was switched on, off or changed in another tab/) });
+    expect(stale).toMatchObject({
+      ok: false,
+      reason: 'closed',
+      message: expect.stringMatching(/lock was switched on, off or changed in another tab/),
+    });
     const other = sampleWorksheet(makeCtx('other'), 'OTHER bed (fictional)');
     expect(await tabB.create(other)).toMatchObject({ ok: false, reason: 'closed' });
     expect(await tabB.putAll([other], { replace: false })).toMatchObject({ ok: false, reason: 'closed' });
@@ -250,7 +256,11 @@ describe('a locked notebook', () => {
     expect(await store.get(ws.id)).toEqual(ws);
 
     // A record that cannot be sealed: nothing is written at all.
-    const failing: RecordCodec = { keyId: 'k-failing-1', seal: () => Promise.reject(new Error('no')), open: () => Promise.reject(new Error('no')) };
+    const failing: RecordCodec = {
+      keyId: 'k-failing-1',
+      seal: () => Promise.reject(new Error('no')),
+      open: () => Promise.reject(new Error('no')),
+    };
     expect(await store.reseal(failing, { keyId: 'k-failing-1' })).toMatchObject({ ok: false, reason: 'failed' });
     expect(await rawDump()).toBe(before);
   });

@@ -138,13 +138,23 @@ describe('a whole scripted session', () => {
     await step('new worksheet', async () => {
       await page.locator('#new-label').fill(label);
       await page.locator('#new-label').press('Enter');
-      await page.waitForFunction((l) => (document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { label: string } })?.worksheet?.label === l, label);
+      await page.waitForFunction(
+        (l) =>
+          (document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { label: string } })
+            ?.worksheet?.label === l,
+        label,
+      );
     });
     // Rows and values through the grid with the keyboard, hostile text in the text cells.
     for (let r = 0; r < 3; r++) {
       await step(`row ${r}`, async () => {
         await page.getByRole('button', { name: 'Add row now' }).click();
-        await page.waitForFunction((n) => ((document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { rows: unknown[] } })?.worksheet?.rows.length ?? 0) > n, r);
+        await page.waitForFunction(
+          (n) =>
+            ((document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { rows: unknown[] } })
+              ?.worksheet?.rows.length ?? 0) > n,
+          r,
+        );
       });
     }
     const rows = (await page.evaluate(shownWorksheet)).rows as { id: string }[];
@@ -164,7 +174,9 @@ describe('a whole scripted session', () => {
         });
       }
     }
-    await page.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'));
+    await page.waitForFunction(() =>
+      document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'),
+    );
     // Facts with a hostile time-zero reason.
     await step('facts', async () => {
       const facts = page.locator('tm-facts');
@@ -183,7 +195,9 @@ describe('a whole scripted session', () => {
         if (name === 'Backup whole notebook') {
           await page.locator('tm-exports input[type="file"]').setInputFiles(path);
           await page.getByRole('button', { name: 'Import with these choices' }).click();
-          await page.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-exports')?.shadowRoot?.textContent?.includes('Imported:'));
+          await page.waitForFunction(() =>
+            document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-exports')?.shadowRoot?.textContent?.includes('Imported:'),
+          );
         } else {
           expect(readFileSync(path, 'utf8').length).toBeGreaterThan(50);
         }
@@ -193,8 +207,15 @@ describe('a whole scripted session', () => {
     await step('trends and the demo worksheet', async () => {
       await page.getByRole('button', { name: 'Trends' }).click();
       await page.getByRole('button', { name: 'Trends' }).click();
-      await page.getByRole('button', { name: /DEMO bay 4/ }).first().click();
-      await page.waitForFunction(() => (document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { demo?: boolean } })?.worksheet?.demo === true);
+      await page
+        .getByRole('button', { name: /DEMO bay 4/ })
+        .first()
+        .click();
+      await page.waitForFunction(
+        () =>
+          (document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { demo?: boolean } })
+            ?.worksheet?.demo === true,
+      );
     });
     await page.waitForTimeout(1000);
     const sessionServer = app.requests.slice(serverBefore);
@@ -217,34 +238,50 @@ describe('a whole scripted session', () => {
       };
       await attempt('fetch', () => fetch(`${t}/fetch`));
       await attempt('fetch no-cors', () => fetch(`${t}/no-cors`, { mode: 'no-cors' }));
-      await attempt('xhr', () => new Promise((resolve, reject) => {
-        const x = new XMLHttpRequest();
-        x.open('GET', `${t}/xhr`);
-        x.onload = resolve;
-        x.onerror = () => reject(new TypeError('xhr error'));
-        x.send();
-      }));
-      await attempt('websocket', () => new Promise((resolve, reject) => {
-        const ws = new WebSocket(`ws://127.0.0.1:${t.split(':')[2]}/ws`);
-        ws.onopen = resolve;
-        ws.onerror = () => reject(new TypeError('websocket error'));
-      }));
+      await attempt(
+        'xhr',
+        () =>
+          new Promise((resolve, reject) => {
+            const x = new XMLHttpRequest();
+            x.open('GET', `${t}/xhr`);
+            x.onload = resolve;
+            x.onerror = () => reject(new TypeError('xhr error'));
+            x.send();
+          }),
+      );
+      await attempt(
+        'websocket',
+        () =>
+          new Promise((resolve, reject) => {
+            const ws = new WebSocket(`ws://127.0.0.1:${t.split(':')[2]}/ws`);
+            ws.onopen = resolve;
+            ws.onerror = () => reject(new TypeError('websocket error'));
+          }),
+      );
       // sendBeacon only queues (it returns true); the policy blocks the send itself, reported below.
       navigator.sendBeacon(`${t}/beacon`, 'x');
-      await attempt('eventsource', () => new Promise((resolve, reject) => {
-        const es = new EventSource(`${t}/es`);
-        es.onopen = resolve;
-        es.onerror = () => {
-          es.close();
-          reject(new TypeError('eventsource error'));
-        };
-      }));
-      await attempt('image', () => new Promise((resolve, reject) => {
-        const img = new Image();
-        img.onload = resolve;
-        img.onerror = () => reject(new TypeError('image error'));
-        img.src = `${t}/img.png`;
-      }));
+      await attempt(
+        'eventsource',
+        () =>
+          new Promise((resolve, reject) => {
+            const es = new EventSource(`${t}/es`);
+            es.onopen = resolve;
+            es.onerror = () => {
+              es.close();
+              reject(new TypeError('eventsource error'));
+            };
+          }),
+      );
+      await attempt(
+        'image',
+        () =>
+          new Promise((resolve, reject) => {
+            const img = new Image();
+            img.onload = resolve;
+            img.onerror = () => reject(new TypeError('image error'));
+            img.src = `${t}/img.png`;
+          }),
+      );
       await attempt('innerHTML', () => {
         document.createElement('div').innerHTML = '<b>x</b>';
       });
@@ -257,7 +294,10 @@ describe('a whole scripted session', () => {
     expect(sinkHits, 'requests that reached the sink server').toEqual([]);
     const violations = await page.evaluate(() => (window as unknown as { __violations: string[] }).__violations);
     expect(violations.some((v) => v.startsWith('connect-src'))).toBe(true);
-    expect(violations.some((v) => v.startsWith('connect-src') && v.includes('/beacon')), 'the beacon was blocked').toBe(true);
+    expect(
+      violations.some((v) => v.startsWith('connect-src') && v.includes('/beacon')),
+      'the beacon was blocked',
+    ).toBe(true);
     // Nothing the session itself did was blocked (a block would mean the app tried something).
     const before = violations.filter((v) => !v.includes(`127.0.0.1:${sinkPort}`) && !/eval|trusted-types|require-trusted/.test(v));
     expect(before, 'policy violations caused by the app').toEqual([]);

@@ -180,7 +180,9 @@ export function sendEdit(arg: { rowId: string; key: string; value: number | stri
   const grid = document.querySelector('tm-app')!.shadowRoot!.querySelector('tm-grid')!;
   grid.dispatchEvent(
     new CustomEvent('tm-edit', {
-      detail: { edits: [{ rowId: arg.rowId, key: arg.key, cell: arg.value === null ? null : { value: arg.value }, input: String(arg.value ?? '') }] },
+      detail: {
+        edits: [{ rowId: arg.rowId, key: arg.key, cell: arg.value === null ? null : { value: arg.value }, input: String(arg.value ?? '') }],
+      },
       bubbles: true,
       composed: true,
     }),
@@ -189,14 +191,18 @@ export function sendEdit(arg: { rowId: string; key: string; value: number | stri
 
 /** Resolves with Date.now() once the grid shows `value` in the cell with no saving mark. */
 export function whenShown(arg: { rowId: string; key: string; value: number | string; timeoutMs: number }): Promise<number> {
-  type Grid = HTMLElement & { worksheet?: { rows: { id: string; cells: Record<string, { value: unknown } | undefined> }[] }; pending?: ReadonlyMap<string, string> };
+  type Grid = HTMLElement & {
+    worksheet?: { rows: { id: string; cells: Record<string, { value: unknown } | undefined> }[] };
+    pending?: ReadonlyMap<string, string>;
+  };
   const started = Date.now();
   return new Promise((resolve, reject) => {
     const poll = (): void => {
       const grid = document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as Grid | null | undefined;
       const cell = grid?.worksheet?.rows.find((r) => r.id === arg.rowId)?.cells[arg.key];
       if (cell?.value === arg.value && !grid?.pending?.has(`${arg.rowId}:${arg.key}`)) return resolve(Date.now());
-      if (Date.now() - started > arg.timeoutMs) return reject(new Error(`cell ${arg.rowId}/${arg.key} did not show ${String(arg.value)} within ${arg.timeoutMs} ms`));
+      if (Date.now() - started > arg.timeoutMs)
+        return reject(new Error(`cell ${arg.rowId}/${arg.key} did not show ${String(arg.value)} within ${arg.timeoutMs} ms`));
       setTimeout(poll, 5);
     };
     poll();

@@ -54,7 +54,9 @@ type Row = { id: string; cells: Record<string, { value: unknown } | undefined> }
 /** JSON with object keys sorted, so equal data compares equal whatever the key order. */
 function canonical(value: unknown): string {
   return JSON.stringify(value, (_k, v: unknown) =>
-    v !== null && typeof v === 'object' && !Array.isArray(v) ? Object.fromEntries(Object.entries(v as object).sort(([x], [y]) => (x < y ? -1 : 1))) : v,
+    v !== null && typeof v === 'object' && !Array.isArray(v)
+      ? Object.fromEntries(Object.entries(v as object).sort(([x], [y]) => (x < y ? -1 : 1)))
+      : v,
   );
 }
 
@@ -73,7 +75,11 @@ describe('two tabs on one notebook', () => {
       const savedInA = await a.evaluate(whenShown, { rowId: row.id, key: 'hr', value, timeoutMs: 5_000 });
       latencies.push(Math.max(0, (await seenInB) - savedInA));
     }
-    figures['propagation'] = { changes: latencies.length, maxMs: Math.max(...latencies), medianMs: [...latencies].sort((x, y) => x - y)[7] };
+    figures['propagation'] = {
+      changes: latencies.length,
+      maxMs: Math.max(...latencies),
+      medianMs: [...latencies].sort((x, y) => x - y)[7],
+    };
     expect(Math.max(...latencies)).toBeLessThan(1000);
     await a.close();
     await b.close();
@@ -95,13 +101,24 @@ describe('two tabs on one notebook', () => {
       const va = `round ${round} from tab A`;
       const vb = `round ${round} from tab B`;
       sent.push({ tab: 'A', rowId: rowA, value: va }, { tab: 'B', rowId: rowB, value: vb });
-      await Promise.all([a.evaluate(sendEdit, { rowId: rowA, key: 'note', value: va }), b.evaluate(sendEdit, { rowId: rowB, key: 'note', value: vb })]);
+      await Promise.all([
+        a.evaluate(sendEdit, { rowId: rowA, key: 'note', value: va }),
+        b.evaluate(sendEdit, { rowId: rowB, key: 'note', value: vb }),
+      ]);
       await new Promise((r) => setTimeout(r, 40));
-      for (const p of [a, b]) if ((await p.evaluate(appMessages)).banners.some((t) => /also changed in another tab/.test(t))) conflictsShown += 1;
+      for (const p of [a, b])
+        if ((await p.evaluate(appMessages)).banners.some((t) => /also changed in another tab/.test(t))) conflictsShown += 1;
     }
-    for (const [tab, p] of [['A', a], ['B', b]] as const) {
+    for (const [tab, p] of [
+      ['A', a],
+      ['B', b],
+    ] as const) {
       try {
-        await p.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'), null, { timeout: 20_000 });
+        await p.waitForFunction(
+          () => document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'),
+          null,
+          { timeout: 20_000 },
+        );
       } catch (e) {
         throw new Error(`tab ${tab} never said "All changes saved": ${JSON.stringify(await p.evaluate(appMessages))}`, { cause: e });
       }
@@ -110,7 +127,9 @@ describe('two tabs on one notebook', () => {
     const entries = after.log.slice(before.log.length).map((e) => e.entry);
     // Every edit is in the log exactly once, as a cell entry on the note of its row.
     for (const s of sent) {
-      const found = entries.filter((e) => e.kind === 'cell' && e.key === 'note' && e.rowId === s.rowId && (e.new as { value?: unknown } | null)?.value === s.value);
+      const found = entries.filter(
+        (e) => e.kind === 'cell' && e.key === 'note' && e.rowId === s.rowId && (e.new as { value?: unknown } | null)?.value === s.value,
+      );
       expect(found.length, `${s.value} in the log`).toBe(1);
     }
     expect(entries.length).toBe(sent.length);
@@ -121,7 +140,13 @@ describe('two tabs on one notebook', () => {
     for (const [rowId, value] of last) expect(after.record.rows.find((r) => r.id === rowId)?.cells['note']?.value).toBe(value);
     // Both tabs end up showing what is stored.
     for (const p of [a, b]) {
-      await p.waitForFunction((rev) => (document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { rev: number } })?.worksheet?.rev === rev, after.record.rev, { timeout: 5_000 });
+      await p.waitForFunction(
+        (rev) =>
+          (document.querySelector('tm-app')?.shadowRoot?.querySelector('tm-grid') as unknown as { worksheet?: { rev: number } })?.worksheet
+            ?.rev === rev,
+        after.record.rev,
+        { timeout: 5_000 },
+      );
       expect(canonical((await p.evaluate(shownWorksheet)).rows)).toBe(canonical(after.record.rows));
     }
     figures['simultaneous'] = { rounds: ROUNDS, edits: sent.length, keptInLog: entries.length, conflictNoticesSeen: conflictsShown };
@@ -152,7 +177,9 @@ describe('two tabs on one notebook', () => {
     const notice = (await b.evaluate(appMessages)).banners.find((t) => /changed in another tab/.test(t));
     expect(notice).toMatch(/also changed in another tab; both changes are kept in the edit log/);
     const stored = await b.evaluate(readStored);
-    const notes = stored.log.filter((e) => e.entry.kind === 'cell' && e.entry.key === 'note' && e.entry.rowId === row.id).map((e) => e.entry);
+    const notes = stored.log
+      .filter((e) => e.entry.kind === 'cell' && e.entry.key === 'note' && e.entry.rowId === row.id)
+      .map((e) => e.entry);
     expect(notes.at(-2)?.new).toEqual({ value: 'first, from tab A' });
     expect(notes.at(-1)).toMatchObject({ old: { value: 'first, from tab A' }, new: { value: 'second, from tab B' } });
     // Tab A hears tab B's change and shows it within a second.
@@ -194,7 +221,11 @@ describe('two tabs on one notebook', () => {
     const fresh = await chrome.context().newPage();
     const startedAt = Date.now();
     await fresh.goto(origin.url, { waitUntil: 'load' });
-    await fresh.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.textContent?.includes('open in another tab with an older version'), null, { timeout: 15_000 });
+    await fresh.waitForFunction(
+      () => document.querySelector('tm-app')?.shadowRoot?.textContent?.includes('open in another tab with an older version'),
+      null,
+      { timeout: 15_000 },
+    );
     const message = (await fresh.evaluate(appMessages)).banners.join(' ');
     expect(message).toMatch(/Tidemark is open in another tab with an older version\. Close or reload the other tabs to continue\./);
     const blockedShownMs = Date.now() - startedAt;
@@ -228,12 +259,20 @@ describe('two tabs on one notebook', () => {
         }),
     );
     expect(openedIn).toBeLessThan(5_000);
-    await tab.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.textContent?.includes('A newer Tidemark opened in another tab'), null, { timeout: 5_000 });
+    await tab.waitForFunction(
+      () => document.querySelector('tm-app')?.shadowRoot?.textContent?.includes('A newer Tidemark opened in another tab'),
+      null,
+      { timeout: 5_000 },
+    );
     expect((await tab.evaluate(appMessages)).banners.join(' ')).toMatch(/Reload this tab to keep working; nothing saved is lost/);
     // An edit now cannot be saved: the screen says so, keeps it, and offers an export.
     const row = ((await tab.evaluate(shownWorksheet)).rows as Row[])[0]!;
     await tab.evaluate(sendEdit, { rowId: row.id, key: 'note', value: 'typed after the upgrade elsewhere' });
-    await tab.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('.banner.failed[role="alert"]')?.textContent?.includes('Not saved'), null, { timeout: 5_000 });
+    await tab.waitForFunction(
+      () => document.querySelector('tm-app')?.shadowRoot?.querySelector('.banner.failed[role="alert"]')?.textContent?.includes('Not saved'),
+      null,
+      { timeout: 5_000 },
+    );
     const messages = await tab.evaluate(appMessages);
     expect(messages.save).toMatch(/Not saved/);
     expect(messages.banners.join(' ')).toMatch(/Your entries are still on screen/);

@@ -23,7 +23,6 @@ import { PAYLOADS } from './payloads.js';
 const hits: number[] = [];
 (window as unknown as { __xss: (n: number) => void }).__xss = (n) => hits.push(n);
 
-
 const T0 = Date.parse('2026-03-01T08:00:00Z');
 let stores: Store[] = [];
 let apps: TmApp[] = [];
@@ -65,7 +64,27 @@ function deepText(root: Element): string {
   return parts.join('\n');
 }
 
-const FOREIGN_TAGS = new Set(['script', 'iframe', 'object', 'embed', 'marquee', 'video', 'audio', 'source', 'mglyph', 'animate', 'base', 'meta', 'link', 'x', 'img', 'math', 'noscript', 'frame', 'frameset']);
+const FOREIGN_TAGS = new Set([
+  'script',
+  'iframe',
+  'object',
+  'embed',
+  'marquee',
+  'video',
+  'audio',
+  'source',
+  'mglyph',
+  'animate',
+  'base',
+  'meta',
+  'link',
+  'x',
+  'img',
+  'math',
+  'noscript',
+  'frame',
+  'frameset',
+]);
 
 /** Problems: script-capable markup anywhere in the app's DOM. */
 function hostileMarkup(app: Element): string[] {
@@ -75,7 +94,8 @@ function hostileMarkup(app: Element): string[] {
     if (FOREIGN_TAGS.has(tag)) problems.push(`<${tag}> element in the DOM`);
     for (const a of el.attributes) {
       if (/^on/i.test(a.name)) problems.push(`${a.name} attribute on <${tag}>`);
-      if (/^(href|src|action|formaction|data|xlink:href)$/i.test(a.name) && /^\s*javascript:/i.test(a.value)) problems.push(`${a.name}=javascript: on <${tag}>`);
+      if (/^(href|src|action|formaction|data|xlink:href)$/i.test(a.name) && /^\s*javascript:/i.test(a.value))
+        problems.push(`${a.name}=javascript: on <${tag}>`);
       if (a.name === 'style' && /javascript:|expression\(/i.test(a.value)) problems.push(`script in a style attribute on <${tag}>`);
     }
   }
@@ -121,7 +141,9 @@ function hostileWorksheet(clock: FixedClock, i: number, allRows: boolean): Works
   ws = setCustomGoals(
     ctx,
     ws,
-    list.slice(0, allRows ? 12 : 1).map((q, j) => ({ id: `own-goal-${j}`, label: q.slice(0, 120), target: 'hr < 90', deadlineMinutes: 60 })),
+    list
+      .slice(0, allRows ? 12 : 1)
+      .map((q, j) => ({ id: `own-goal-${j}`, label: q.slice(0, 120), target: 'hr < 90', deadlineMinutes: 60 })),
   ).worksheet;
   ws = { ...ws, columns: [...ws.columns.filter((c) => !c.startsWith('own_col_')), ...ws.derivedColumns.map((d) => d.key)] };
   return ws;
@@ -184,7 +206,10 @@ describe('hostile text renders as inert text', () => {
     // A valid backup whose worksheets clash with the ones here: the clash list shows the labels.
     await pick('hostile-backup.json', backupToJson(createBackup(sheets.slice(0, 10), clock)));
     await until('the clash choices', () => exportsEl.shadowRoot?.querySelector('select'));
-    await look('import clash list', sheets.slice(0, 10).map((s) => s.label));
+    await look(
+      'import clash list',
+      sheets.slice(0, 10).map((s) => s.label),
+    );
     // A file that is not a backup, with hostile keys and values: the problems list shows them.
     const hostileKeys = Object.fromEntries(PAYLOADS.slice(0, 10).map((p) => [p, p]));
     await pick('hostile-keys.json', JSON.stringify({ format: 'tidemark-backup', version: 1, ...hostileKeys }));
@@ -194,7 +219,10 @@ describe('hostile text renders as inert text', () => {
     const fresh = PAYLOADS.map((_p, i) => ({ ...hostileWorksheet(clock, i, false), id: `imported-${i}` }));
     await pick('hostile-new.json', backupToJson(createBackup(fresh, clock)));
     await until('the import', () => exportsEl.shadowRoot?.textContent?.includes('Imported:'));
-    await look('notebook after import', fresh.map((s) => s.label));
+    await look(
+      'notebook after import',
+      fresh.map((s) => s.label),
+    );
 
     expect(problems, problems.slice(0, 10).join('\n')).to.deep.equal([]);
     expect(hits, `payloads that ran: ${hits.join(', ')}`).to.deep.equal([]);

@@ -26,8 +26,6 @@ afterEach(() => {
   const found = unexpected;
   unexpected = [];
   if (found.length > 0) {
-    throw new Error(
-      `Unexpected console output (spy on console to expect it):\n${found.join('\n')}`,
-    );
+    throw new Error(`Unexpected console output (spy on console to expect it):\n${found.join('\n')}`);
   }
 });

@@ -28,8 +28,14 @@ describe('compileColumns', () => {
 
   it('refuses keys that would hide a measure, derived key, score, fact, helper or function', () => {
     const plan = compileColumns([
-      column('map', 'sbp'), column('fluid_ml_kg', '1'), column('sofa', '1'), column('weight', '1'), column('prev', '1'), column('abs', '1'),
-      column('and', '1'), column('true', '1'),
+      column('map', 'sbp'),
+      column('fluid_ml_kg', '1'),
+      column('sofa', '1'),
+      column('weight', '1'),
+      column('prev', '1'),
+      column('abs', '1'),
+      column('and', '1'),
+      column('true', '1'),
     ]);
     expect(plan.errors['and']!.message).toMatch(/formula function or word/);
     expect(plan.errors['true']!.message).toMatch(/formula function or word/);
@@ -130,7 +136,11 @@ describe('evaluating a formula over rows (for custom goals)', () => {
   it('evaluateAtRows and resolverAt agree with the helpers user columns see', () => {
     const ws = worksheet({
       timeZeroMin: 0,
-      rows: [{ min: 0, cells: { lactate: 5 } }, { min: 60, cells: { lactate: 4 } }, { min: 120, cells: { lactate: 2.5 } }],
+      rows: [
+        { min: 0, cells: { lactate: 5 } },
+        { min: 60, cells: { lactate: 4 } },
+        { min: 120, cells: { lactate: 2.5 } },
+      ],
     });
     const d = deriveAll(ws);
     const r = compileFormula('lactate <= 0.9 * prev(lactate)');

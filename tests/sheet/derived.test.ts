@@ -21,7 +21,12 @@ describe('MAP estimate: DBP + (SBP − DBP)/3 (reference §12, §16)', () => {
   });
 
   it('is derived only when no MAP is charted', () => {
-    const ws = worksheet({ rows: [{ min: 0, cells: { sbp: 90, dbp: 60 } }, { min: 10, cells: { sbp: 90, dbp: 60, map: 75 } }] });
+    const ws = worksheet({
+      rows: [
+        { min: 0, cells: { sbp: 90, dbp: 60 } },
+        { min: 10, cells: { sbp: 90, dbp: 60, map: 75 } },
+      ],
+    });
     const d = deriveWorksheet(ws);
     expect(d[0]!.values['map']).toBe(70);
     expect(d[1]!.values['map']).toBeUndefined();
@@ -101,7 +106,13 @@ describe('lactate change (Nguyen 2004 / Jones 2010 formula; vectors reference §
   });
 
   it('is derived against the first lactate of the worksheet', () => {
-    const ws = worksheet({ rows: [{ min: 0, cells: { lactate: 4.0 } }, { min: 60, cells: { hr: 100 } }, { min: 120, cells: { lactate: 3.6 } }] });
+    const ws = worksheet({
+      rows: [
+        { min: 0, cells: { lactate: 4.0 } },
+        { min: 60, cells: { hr: 100 } },
+        { min: 120, cells: { lactate: 3.6 } },
+      ],
+    });
     const d = deriveWorksheet(ws);
     expect(d[0]!.values['lactate_change_pct']).toBe(0);
     expect(d[1]!.values['lactate_change_pct']).toBeUndefined();
@@ -111,7 +122,15 @@ describe('lactate change (Nguyen 2004 / Jones 2010 formula; vectors reference §
 
 describe('fluids and urine', () => {
   it('30 mL/kg: 2100 mL for 70 kg reaches exactly 30 mL/kg (reference §16)', () => {
-    const ws = worksheet({ weightKg: 70, timeZeroMin: 0, rows: [{ min: -30, cells: { fluid_ml: 500 } }, { min: 30, cells: { fluid_ml: 1000 } }, { min: 90, cells: { fluid_ml: 1100 } }] });
+    const ws = worksheet({
+      weightKg: 70,
+      timeZeroMin: 0,
+      rows: [
+        { min: -30, cells: { fluid_ml: 500 } },
+        { min: 30, cells: { fluid_ml: 1000 } },
+        { min: 90, cells: { fluid_ml: 1100 } },
+      ],
+    });
     const d = deriveWorksheet(ws);
     expect(d[0]!.values['fluid_total_ml']).toBeUndefined(); // before time zero
     expect(d[1]!.values['fluid_total_ml']).toBe(1000);
@@ -120,7 +139,13 @@ describe('fluids and urine', () => {
   });
 
   it('urine 200 mL over 6 h at 80 kg = 0.417 mL/kg/h (reference §16)', () => {
-    const ws = worksheet({ weightKg: 80, rows: [{ min: 0, cells: { uo_ml: 50 } }, { min: 360, cells: { uo_ml: 200 } }] });
+    const ws = worksheet({
+      weightKg: 80,
+      rows: [
+        { min: 0, cells: { uo_ml: 50 } },
+        { min: 360, cells: { uo_ml: 200 } },
+      ],
+    });
     const d = deriveWorksheet(ws);
     expect(d[0]!.values['uo_ml_kg_h']).toBeUndefined(); // no previous row: interval unknown
     expect(d[1]!.values['uo_ml_kg_h']).toBeCloseTo(0.417, 3);

@@ -31,11 +31,18 @@ export function editorsWorksheet(options: { columns?: boolean; goals?: boolean }
   }
   if (options.columns) {
     ws = setDerivedColumns(ctx, ws, [
-      { key: 'fluid_per_h', label: 'Fluid per hour since time zero', expression: 'fluid_total_ml / max(hours_since_t0(), 0.25)', unit: 'mL/h' },
+      {
+        key: 'fluid_per_h',
+        label: 'Fluid per hour since time zero',
+        expression: 'fluid_total_ml / max(hours_since_t0(), 0.25)',
+        unit: 'mL/h',
+      },
     ]).worksheet;
   }
   if (options.goals) {
-    ws = setCustomGoals(ctx, ws, [{ id: 'sbp-90', label: 'Systolic at least 90 within 1 h', target: 'sbp >= 90', deadlineMinutes: 60 }]).worksheet;
+    ws = setCustomGoals(ctx, ws, [
+      { id: 'sbp-90', label: 'Systolic at least 90 within 1 h', target: 'sbp >= 90', deadlineMinutes: 60 },
+    ]).worksheet;
   }
   return ws;
 }

@@ -161,7 +161,10 @@ describe('what formulas may do', () => {
     expect(evaluate('lactate > 2 and map < 65', { lactate: 3, map: 60 })).toEqual({ ok: true, value: true });
     expect(evaluate('lactate >= 4 ? 30 : 0', { lactate: 4 })).toEqual({ ok: true, value: 30 });
     expect(evaluate('round(max(hr, 100) / sbp, 2)', { hr: 120, sbp: 90 })).toEqual({ ok: true, value: 1.33 });
-    expect(evaluate('abs(-3) + min(4, 5) + floor(2.7) + ceil(2.1) + sqrt(16) + pow(2, 3)', {})).toEqual({ ok: true, value: 3 + 4 + 2 + 3 + 4 + 8 });
+    expect(evaluate('abs(-3) + min(4, 5) + floor(2.7) + ceil(2.1) + sqrt(16) + pow(2, 3)', {})).toEqual({
+      ok: true,
+      value: 3 + 4 + 2 + 3 + 4 + 8,
+    });
     expect(evaluate('round(log(exp(2)), 9)', {})).toEqual({ ok: true, value: 2 });
     expect(evaluate('not (map < 65) and (true xor false)', { map: 70 })).toEqual({ ok: true, value: true });
     expect(evaluate('lactate mod 3', { lactate: 7 })).toEqual({ ok: true, value: 1 });
@@ -199,7 +202,10 @@ describe('what formulas may do', () => {
   });
 
   it('reports division by zero and square roots of negatives as errors at that row, not values', () => {
-    expect(evaluate('map / (sbp - sbp)', { map: 1, sbp: 2 })).toMatchObject({ ok: false, error: expect.stringMatching(/infinite/) as unknown });
+    expect(evaluate('map / (sbp - sbp)', { map: 1, sbp: 2 })).toMatchObject({
+      ok: false,
+      error: expect.stringMatching(/infinite/) as unknown,
+    });
     expect(evaluate('sqrt(map - 100)', { map: 64 })).toMatchObject({ ok: false, error: expect.stringMatching(/not a number/) as unknown });
     expect(evaluate('pow(10, 400)', {})).toMatchObject({ ok: false, error: expect.stringMatching(/infinite/) as unknown });
   });
@@ -210,14 +216,19 @@ describe('what formulas may do', () => {
   });
 
   it('records what a formula reads', () => {
-    const r = compileFormula('prev(lactate) - lactate + running_sum(fluid_ml) / dosing_weight + at_t0(map) + first(sofa) + hours_since_prev()');
+    const r = compileFormula(
+      'prev(lactate) - lactate + running_sum(fluid_ml) / dosing_weight + at_t0(map) + first(sofa) + hours_since_prev()',
+    );
     expect(r.ok).toBe(true);
     if (!r.ok) return;
     expect([...r.formula.rowKeys]).toEqual(['lactate']);
     expect([...r.formula.facts]).toEqual(['dosing_weight']);
     expect(r.formula.usesTime).toBe(true);
     expect(Object.fromEntries([...r.formula.helperKeys].map(([k, v]) => [k, [...v]]))).toEqual({
-      prev: ['lactate'], running_sum: ['fluid_ml'], at_t0: ['map'], first: ['sofa'],
+      prev: ['lactate'],
+      running_sum: ['fluid_ml'],
+      at_t0: ['map'],
+      first: ['sofa'],
     });
   });
 });
@@ -225,41 +236,119 @@ describe('what formulas may do', () => {
 // --- Properties ---------------------------------------------------------------------------------
 
 const TOKENS = [
-  'map', 'lactate', 'sbp', 'weight', 'sofa', 'x', 'foo', 'constructor', '__proto__', 'this', 'globalThis', 'process',
-  'import', 'createUnit', 'evaluate', 'parse', 'cos', 'abs', 'min', 'max', 'sqrt', 'pow', 'prev', 'first', 'has',
-  'hours_since_prev', '1', '2.5', '0', '1e308', '+', '-', '*', '/', '^', '%', '<', '<=', '==', '!=', '>', 'and', 'or', 'not',
-  '?', ':', '(', ')', '(', ')', ',', '.', '[', ']', '{', '}', '=', ';', '"', "'", '!', '&', '|', '??', 'to', 'cm', ' ', '\n',
+  'map',
+  'lactate',
+  'sbp',
+  'weight',
+  'sofa',
+  'x',
+  'foo',
+  'constructor',
+  '__proto__',
+  'this',
+  'globalThis',
+  'process',
+  'import',
+  'createUnit',
+  'evaluate',
+  'parse',
+  'cos',
+  'abs',
+  'min',
+  'max',
+  'sqrt',
+  'pow',
+  'prev',
+  'first',
+  'has',
+  'hours_since_prev',
+  '1',
+  '2.5',
+  '0',
+  '1e308',
+  '+',
+  '-',
+  '*',
+  '/',
+  '^',
+  '%',
+  '<',
+  '<=',
+  '==',
+  '!=',
+  '>',
+  'and',
+  'or',
+  'not',
+  '?',
+  ':',
+  '(',
+  ')',
+  '(',
+  ')',
+  ',',
+  '.',
+  '[',
+  ']',
+  '{',
+  '}',
+  '=',
+  ';',
+  '"',
+  "'",
+  '!',
+  '&',
+  '|',
+  '??',
+  'to',
+  'cm',
+  ' ',
+  '\n',
 ];
 
 const tokenText = fc.array(fc.constantFrom(...TOKENS), { maxLength: 40 }).map((t) => t.join(''));
 const spacedTokenText = fc.array(fc.constantFrom(...TOKENS), { maxLength: 40 }).map((t) => t.join(' '));
 
 /** Valid formulas from the allowed grammar. */
-const validFormula: fc.Arbitrary<string> = fc.letrec<{ e: string }>((tie) => ({
-  e: fc.oneof(
-    { depthSize: 'small', withCrossShrink: true },
-    fc.constantFrom('map', 'lactate', 'sbp', 'hr', 'weight', 'dosing_weight', 'sofa', 'fluid_total_ml'),
-    fc.integer({ min: 0, max: 500 }).map(String),
-    fc.double({ min: 0, max: 100, noNaN: true }).map((x) => x.toFixed(2)),
-    fc.constantFrom('prev(lactate)', 'first(map)', 'running_sum(fluid_ml)', 'at_t0(map)', 'hours_since_prev()', '(uo_ml ?? 0)'),
-    fc.tuple(tie('e'), fc.constantFrom('+', '-', '*', '/', '^', '<', '>=', '==', 'and', 'or'), tie('e')).map(([a, op, b]) => `(${a} ${op} ${b})`),
-    fc.tuple(tie('e'), tie('e'), tie('e')).map(([a, b, c]) => `(${a} ? ${b} : ${c})`),
-    fc.tuple(fc.constantFrom('abs', 'sqrt', 'exp', 'round', 'floor', 'ceil'), tie('e')).map(([f, a]) => `${f}(${a})`),
-    fc.tuple(fc.constantFrom('min', 'max', 'pow', 'log'), tie('e'), tie('e')).map(([f, a, b]) => `${f}(${a}, ${b})`),
-    tie('e').map((a) => `-${a}`),
-  ),
-})).e.filter((s) => s.length <= MAX_FORMULA_LENGTH);
+const validFormula: fc.Arbitrary<string> = fc
+  .letrec<{ e: string }>((tie) => ({
+    e: fc.oneof(
+      { depthSize: 'small', withCrossShrink: true },
+      fc.constantFrom('map', 'lactate', 'sbp', 'hr', 'weight', 'dosing_weight', 'sofa', 'fluid_total_ml'),
+      fc.integer({ min: 0, max: 500 }).map(String),
+      fc.double({ min: 0, max: 100, noNaN: true }).map((x) => x.toFixed(2)),
+      fc.constantFrom('prev(lactate)', 'first(map)', 'running_sum(fluid_ml)', 'at_t0(map)', 'hours_since_prev()', '(uo_ml ?? 0)'),
+      fc
+        .tuple(tie('e'), fc.constantFrom('+', '-', '*', '/', '^', '<', '>=', '==', 'and', 'or'), tie('e'))
+        .map(([a, op, b]) => `(${a} ${op} ${b})`),
+      fc.tuple(tie('e'), tie('e'), tie('e')).map(([a, b, c]) => `(${a} ? ${b} : ${c})`),
+      fc.tuple(fc.constantFrom('abs', 'sqrt', 'exp', 'round', 'floor', 'ceil'), tie('e')).map(([f, a]) => `${f}(${a})`),
+      fc.tuple(fc.constantFrom('min', 'max', 'pow', 'log'), tie('e'), tie('e')).map(([f, a, b]) => `${f}(${a}, ${b})`),
+      tie('e').map((a) => `-${a}`),
+    ),
+  }))
+  .e.filter((s) => s.length <= MAX_FORMULA_LENGTH);
 
-const randomResolver = fc.dictionary(fc.constantFrom('map', 'lactate', 'sbp', 'hr', 'weight', 'sofa', 'uo_ml'), fc.double({ min: -1e6, max: 1e6, noNaN: true }));
+const randomResolver = fc.dictionary(
+  fc.constantFrom('map', 'lactate', 'sbp', 'hr', 'weight', 'sofa', 'uo_ml'),
+  fc.double({ min: -1e6, max: 1e6, noNaN: true }),
+);
 
 describe('properties (fast-check)', { timeout: 60_000 }, () => {
   it('any text either compiles or returns an error message; compile never throws', () => {
     fc.assert(
-      fc.property(fc.oneof(fc.string({ maxLength: 120 }), fc.string({ unit: 'grapheme', maxLength: 80 }), tokenText, spacedTokenText), (text) => {
-        const r = compileFormula(text);
-        if (r.ok) return typeof r.formula.evaluate === 'function';
-        return typeof r.error === 'string' && r.error.length > 0 && (r.position === undefined || (r.position >= 1 && r.position <= text.length + 1));
-      }),
+      fc.property(
+        fc.oneof(fc.string({ maxLength: 120 }), fc.string({ unit: 'grapheme', maxLength: 80 }), tokenText, spacedTokenText),
+        (text) => {
+          const r = compileFormula(text);
+          if (r.ok) return typeof r.formula.evaluate === 'function';
+          return (
+            typeof r.error === 'string' &&
+            r.error.length > 0 &&
+            (r.position === undefined || (r.position >= 1 && r.position <= text.length + 1))
+          );
+        },
+      ),
       { numRuns: 3000 },
     );
   });
@@ -290,8 +379,23 @@ describe('properties (fast-check)', { timeout: 60_000 }, () => {
 
   it('no formula reaches globals, imports, defines units or changes prototypes', () => {
     const dangerous = fc.constantFrom(
-      'constructor', '__proto__', 'this', 'globalThis', 'process', 'import', 'createUnit', 'evaluate', 'parse',
-      'simplify', 'derivative', 'resolve', 'reviver', 'Function', 'eval', 'require', 'config',
+      'constructor',
+      '__proto__',
+      'this',
+      'globalThis',
+      'process',
+      'import',
+      'createUnit',
+      'evaluate',
+      'parse',
+      'simplify',
+      'derivative',
+      'resolve',
+      'reviver',
+      'Function',
+      'eval',
+      'require',
+      'config',
     );
     const globalsBefore = Object.getOwnPropertyNames(globalThis).sort();
     fc.assert(
@@ -335,11 +439,17 @@ describe('properties (fast-check)', { timeout: 60_000 }, () => {
     let worstEval = 0;
     fc.assert(
       fc.property(fc.oneof(validFormula, tokenText), randomResolver, (text, values) => {
-        worstCompile = Math.max(worstCompile, best(() => compileFormula(text)));
+        worstCompile = Math.max(
+          worstCompile,
+          best(() => compileFormula(text)),
+        );
         const r = compileFormula(text);
         if (!r.ok) return true;
         const resolve = mapResolver(values);
-        worstEval = Math.max(worstEval, best(() => r.formula.evaluate(resolve)));
+        worstEval = Math.max(
+          worstEval,
+          best(() => r.formula.evaluate(resolve)),
+        );
         return true;
       }),
       { numRuns: 500 },
@@ -353,24 +463,31 @@ describe('properties (fast-check)', { timeout: 60_000 }, () => {
     expect(r.ok).toBe(true);
     if (!r.ok) return;
     fc.assert(
-      fc.property(fc.double({ min: -1e4, max: -1e-3, noNaN: true }), fc.double({ min: -5, max: 5, noNaN: true }).filter((y) => !Number.isInteger(y)), (x, y) => {
-        const resolve = mapResolver({ map: x, sbp: y });
-        let best = Infinity;
-        let res: unknown;
-        for (let k = 0; k < 3; k++) {
-          const a = performance.now();
-          res = r.formula.evaluate(resolve);
-          best = Math.min(best, performance.now() - a);
-        }
-        expect(res).toMatchObject({ ok: false, error: expect.stringMatching(/not a number/) as unknown });
-        return best < 1;
-      }),
+      fc.property(
+        fc.double({ min: -1e4, max: -1e-3, noNaN: true }),
+        fc.double({ min: -5, max: 5, noNaN: true }).filter((y) => !Number.isInteger(y)),
+        (x, y) => {
+          const resolve = mapResolver({ map: x, sbp: y });
+          let best = Infinity;
+          let res: unknown;
+          for (let k = 0; k < 3; k++) {
+            const a = performance.now();
+            res = r.formula.evaluate(resolve);
+            best = Math.min(best, performance.now() - a);
+          }
+          expect(res).toMatchObject({ ok: false, error: expect.stringMatching(/not a number/) as unknown });
+          return best < 1;
+        },
+      ),
       { numRuns: 300 },
     );
   });
 
   it('the largest accepted formula still compiles and evaluates fast', () => {
-    const text = Array.from({ length: 60 }, (_, k) => `max(map, ${k})`).join('+').slice(0, MAX_FORMULA_LENGTH).replace(/\+[^+]*$/, '');
+    const text = Array.from({ length: 60 }, (_, k) => `max(map, ${k})`)
+      .join('+')
+      .slice(0, MAX_FORMULA_LENGTH)
+      .replace(/\+[^+]*$/, '');
     const r = compileFormula(text);
     expect(r.ok).toBe(true);
     if (!r.ok) return;

@@ -78,7 +78,9 @@ describe('previewColumns', () => {
     expect(p.problems).toEqual([{}]);
     const rows = p.rows[0]!;
     // Shock index = HR / SBP (common practice, no source), computed here from the fixture values.
-    expect(rows.map((r) => r.value)).toEqual([120 / 80, 110 / 90, 100 / 100, undefined].map((x) => (x === undefined ? undefined : Number(x.toPrecision(12)))));
+    expect(rows.map((r) => r.value)).toEqual(
+      [120 / 80, 110 / 90, 100 / 100, undefined].map((x) => (x === undefined ? undefined : Number(x.toPrecision(12)))),
+    );
     expect(rows.map((r) => r.clock)).toEqual(['08:00', '08:40', '09:10', '09:40']);
     expect(rows[3]!.kind).toBe('none');
     expect(rows[3]!.text).toBe('needs sbp');
@@ -95,7 +97,10 @@ describe('previewColumns', () => {
     const full = deriveAll({ ...WS, derivedColumns: drafts.map((d) => ({ key: d.key, label: d.label, expression: d.expression })) });
     drafts.forEach((d, k) => {
       const expected = full.rows.map((r) => r.values[d.key]);
-      expect(p.rows[k]!.map((o) => o.value), d.key).toEqual(expected);
+      expect(
+        p.rows[k]!.map((o) => o.value),
+        d.key,
+      ).toEqual(expected);
     });
     // a = crystalloid since time zero / 70 kg: (0, 1000, 2100, 2100) / 70, by hand from the fixture.
     expect(p.rows[1]!.map((o) => o.value)).toEqual([0, 1000 / 70, 2100 / 70, 2100 / 70].map((x) => Number(x.toPrecision(12))));
@@ -128,7 +133,11 @@ describe('previewColumns', () => {
   });
 
   it('refuses forbidden constructs with a position (mathjs security notes: import, function definition, property access)', () => {
-    for (const [text, pos] of [['import("x")', 1], ['f(x)=x', 5], ['cos.constructor', 4]] as const) {
+    for (const [text, pos] of [
+      ['import("x")', 1],
+      ['f(x)=x', 5],
+      ['cos.constructor', 4],
+    ] as const) {
       const p = previewColumns(WS, baseDerivation(WS), [draft('x', text)]);
       expect(p.problems[0]!.expression!.position, text).toBe(pos);
       expect(p.rows[0]).toBeUndefined();
@@ -162,7 +171,11 @@ describe('own goals', () => {
     expect(goalIdFromLabel('≥≥')).toBe('goal');
     expect(goalIdFromLabel('Urine', ['urine'])).toBe('urine-2');
     expect(goalIdFromLabel('x'.repeat(60)).length).toBe(40);
-    expect(resolvedGoalIds([goal({ label: 'Urine' }), goal({ label: 'Urine' }), goal({ id: 'urine-2', label: 'Other' })])).toEqual(['urine', 'urine-3', 'urine-2']);
+    expect(resolvedGoalIds([goal({ label: 'Urine' }), goal({ label: 'Urine' }), goal({ id: 'urine-2', label: 'Other' })])).toEqual([
+      'urine',
+      'urine-3',
+      'urine-2',
+    ]);
   });
 
   it('reads the deadline as whole minutes from time zero, up to 7 days', () => {
@@ -189,7 +202,13 @@ describe('own goals', () => {
   });
 
   it('saves goals with generated ids and optional parts left out', () => {
-    const r = checkGoals([goal({ label: 'MAP at least 65', target: 'map >= 65' }), goal({ label: 'Lactate down', condition: 'first(lactate) > 2', target: 'lactate < 2', deadline: '360' })], []);
+    const r = checkGoals(
+      [
+        goal({ label: 'MAP at least 65', target: 'map >= 65' }),
+        goal({ label: 'Lactate down', condition: 'first(lactate) > 2', target: 'lactate < 2', deadline: '360' }),
+      ],
+      [],
+    );
     expect(r).toEqual({
       ok: true,
       goals: [
@@ -210,7 +229,13 @@ describe('own goals', () => {
   });
 
   it('marks rows before time zero', () => {
-    const ws = worksheet({ timeZeroMin: 30, rows: [{ min: 0, cells: { map: 60 } }, { min: 40, cells: { map: 70 } }] });
+    const ws = worksheet({
+      timeZeroMin: 30,
+      rows: [
+        { min: 0, cells: { map: 60 } },
+        { min: 40, cells: { map: 70 } },
+      ],
+    });
     const c = checkFormula('map >= 65', []);
     if (!c.ok) throw new Error(c.problem.message);
     expect(evaluateFormulaOnRows(ws, goalDerivation(ws), c.formula).map((o) => o.beforeTimeZero)).toEqual([true, false]);

@@ -32,9 +32,33 @@ export function gridFixture(): Worksheet {
   cols.splice(cols.indexOf('hr') + 1, 0, 'shock_index');
   cols.splice(cols.indexOf('fluid_ml') + 1, 0, 'fluid_ml_kg');
   ws = setColumns(ctx, ws, cols).worksheet;
-  ws = addRow(ctx, ws, '2026-03-01T07:40:00.000Z', 60, cells({ sbp: '82', dbp: '44', hr: '124', rr: '26', temp: '38.9', spo2: '93', lactate: '4.6', cultures_drawn: 'yes' })).worksheet;
-  ws = addRow(ctx, ws, '2026-03-01T08:10:00.000Z', 60, cells({ map: '58', hr: '118', fluid_ml: '1000', antibiotic: 'piperacillin-tazobactam' })).worksheet;
-  ws = addRow(ctx, ws, '2026-03-01T08:40:00.000Z', 60, cells({ map: '63', sbp: '96', dbp: '48', hr: '110', fluid_ml: '1200', uo_ml: '30', norepinephrine: '0.08' })).worksheet;
-  ws = addRow(ctx, ws, '2026-03-01T09:15:00.000Z', 60, cells({ map: '68', hr: '102', spo2: '96', lactate: '3.1', uo_ml: '45', norepinephrine: '0.1', perfusion_reassessed: 'cap refill 3 s' })).worksheet;
+  ws = addRow(
+    ctx,
+    ws,
+    '2026-03-01T07:40:00.000Z',
+    60,
+    cells({ sbp: '82', dbp: '44', hr: '124', rr: '26', temp: '38.9', spo2: '93', lactate: '4.6', cultures_drawn: 'yes' }),
+  ).worksheet;
+  ws = addRow(
+    ctx,
+    ws,
+    '2026-03-01T08:10:00.000Z',
+    60,
+    cells({ map: '58', hr: '118', fluid_ml: '1000', antibiotic: 'piperacillin-tazobactam' }),
+  ).worksheet;
+  ws = addRow(
+    ctx,
+    ws,
+    '2026-03-01T08:40:00.000Z',
+    60,
+    cells({ map: '63', sbp: '96', dbp: '48', hr: '110', fluid_ml: '1200', uo_ml: '30', norepinephrine: '0.08' }),
+  ).worksheet;
+  ws = addRow(
+    ctx,
+    ws,
+    '2026-03-01T09:15:00.000Z',
+    60,
+    cells({ map: '68', hr: '102', spo2: '96', lactate: '3.1', uo_ml: '45', norepinephrine: '0.1', perfusion_reassessed: 'cap refill 3 s' }),
+  ).worksheet;
   return ws;
 }

@@ -4,7 +4,15 @@
 // /work/shared/style/anchors.md §7). Every key is checked at every cell of several grid shapes.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { clampPos, gridKey, isPrintable, type CellPos, type GridKeyState, type GridSize, type KeyInput } from '../../src/sheet/grid-keys.js';
+import {
+  clampPos,
+  gridKey,
+  isPrintable,
+  type CellPos,
+  type GridKeyState,
+  type GridSize,
+  type KeyInput,
+} from '../../src/sheet/grid-keys.js';
 
 const SIZES: GridSize[] = [
   { rows: 1, cols: 1, pageRows: 5 },
@@ -96,7 +104,10 @@ describe('grid keys: navigation mode (APG data grid)', () => {
     const at = { row: 2, col: 3 };
     for (const ch of ['7', 'a', 'Z', '.', '-', ' ', 'µ', '✓']) {
       expect(gridKey(nav(size, at), k(ch, { shift: ch === 'Z' }))).toEqual({
-        handled: true, active: at, mode: 'edit', command: { kind: 'begin-edit', initial: ch },
+        handled: true,
+        active: at,
+        mode: 'edit',
+        command: { kind: 'begin-edit', initial: ch },
       });
     }
   });
@@ -104,7 +115,16 @@ describe('grid keys: navigation mode (APG data grid)', () => {
   it('Ctrl+letter, Alt+letter and named keys do not start editing', () => {
     const size = SIZES[3]!;
     const at = { row: 1, col: 1 };
-    for (const input of [k('c', { ctrl: true }), k('v', { meta: true }), k('x', { alt: true }), k('Shift', { shift: true }), k('Control'), k('CapsLock'), k('F5'), k('Insert')]) {
+    for (const input of [
+      k('c', { ctrl: true }),
+      k('v', { meta: true }),
+      k('x', { alt: true }),
+      k('Shift', { shift: true }),
+      k('Control'),
+      k('CapsLock'),
+      k('F5'),
+      k('Insert'),
+    ]) {
       const r = gridKey(nav(size, at), input);
       expect(r.command.kind === 'begin-edit', JSON.stringify(input)).toBe(false);
       expect(r.mode).toBe('navigate');
@@ -115,7 +135,12 @@ describe('grid keys: navigation mode (APG data grid)', () => {
     // APG: the grid is a single tab stop; Tab moves out of it in navigation mode.
     const size = SIZES[3]!;
     for (const input of [k('Tab'), k('Tab', { shift: true }), k('Escape')]) {
-      expect(gridKey(nav(size, { row: 1, col: 1 }), input)).toEqual({ handled: false, active: { row: 1, col: 1 }, mode: 'navigate', command: { kind: 'none' } });
+      expect(gridKey(nav(size, { row: 1, col: 1 }), input)).toEqual({
+        handled: false,
+        active: { row: 1, col: 1 },
+        mode: 'navigate',
+        command: { kind: 'none' },
+      });
     }
   });
 
@@ -194,40 +219,102 @@ describe('grid keys: editing mode', () => {
     const size = SIZES[3]!;
     const at = { row: 2, col: 2 };
     expect(gridKey(edit(size, at), k('Escape'))).toEqual({ handled: true, active: at, mode: 'navigate', command: { kind: 'cancel' } });
-    expect(gridKey(edit(size, at), k('F2'))).toEqual({ handled: true, active: at, mode: 'navigate', command: { kind: 'commit', move: 'stay' } });
+    expect(gridKey(edit(size, at), k('F2'))).toEqual({
+      handled: true,
+      active: at,
+      mode: 'navigate',
+      command: { kind: 'commit', move: 'stay' },
+    });
   });
 
   it('arrows, Home/End, characters, Delete and Ctrl+Z belong to the text field while editing', () => {
     // APG: while editing, arrow keys are captured by the widget in the cell.
     const size = SIZES[3]!;
     const at = { row: 2, col: 2 };
-    for (const input of [k('ArrowLeft'), k('ArrowRight'), k('ArrowUp'), k('ArrowDown'), k('Home'), k('End'), k('PageDown'), k('a'), k('Delete'), k('Backspace'), k('z', { ctrl: true }), k('y', { ctrl: true }), k('Home', { ctrl: true })]) {
-      expect(gridKey(edit(size, at), input), JSON.stringify(input)).toEqual({ handled: false, active: at, mode: 'edit', command: { kind: 'none' } });
+    for (const input of [
+      k('ArrowLeft'),
+      k('ArrowRight'),
+      k('ArrowUp'),
+      k('ArrowDown'),
+      k('Home'),
+      k('End'),
+      k('PageDown'),
+      k('a'),
+      k('Delete'),
+      k('Backspace'),
+      k('z', { ctrl: true }),
+      k('y', { ctrl: true }),
+      k('Home', { ctrl: true }),
+    ]) {
+      expect(gridKey(edit(size, at), input), JSON.stringify(input)).toEqual({
+        handled: false,
+        active: at,
+        mode: 'edit',
+        command: { kind: 'none' },
+      });
     }
   });
 });
 
 describe('grid keys: invariants over random input', () => {
-  const sizeArb = fc.record({ rows: fc.integer({ min: 1, max: 60 }), cols: fc.integer({ min: 1, max: 40 }), pageRows: fc.integer({ min: 1, max: 30 }) });
+  const sizeArb = fc.record({
+    rows: fc.integer({ min: 1, max: 60 }),
+    cols: fc.integer({ min: 1, max: 40 }),
+    pageRows: fc.integer({ min: 1, max: 30 }),
+  });
   const keyArb = fc.record({
-    key: fc.oneof(fc.constantFrom('ArrowUp', 'ArrowDown', 'ArrowLeft', 'ArrowRight', 'Home', 'End', 'PageUp', 'PageDown', 'Enter', 'F2', 'Escape', 'Tab', 'Delete', 'Backspace', 'z', 'y', 'n'), fc.string({ minLength: 1, maxLength: 2 })),
-    ctrl: fc.boolean(), meta: fc.boolean(), shift: fc.boolean(), alt: fc.boolean(),
+    key: fc.oneof(
+      fc.constantFrom(
+        'ArrowUp',
+        'ArrowDown',
+        'ArrowLeft',
+        'ArrowRight',
+        'Home',
+        'End',
+        'PageUp',
+        'PageDown',
+        'Enter',
+        'F2',
+        'Escape',
+        'Tab',
+        'Delete',
+        'Backspace',
+        'z',
+        'y',
+        'n',
+      ),
+      fc.string({ minLength: 1, maxLength: 2 }),
+    ),
+    ctrl: fc.boolean(),
+    meta: fc.boolean(),
+    shift: fc.boolean(),
+    alt: fc.boolean(),
   });
 
   it('the active cell always stays inside the grid', () => {
-    fc.assert(fc.property(sizeArb, keyArb, fc.nat(), fc.nat(), fc.constantFrom('navigate', 'edit') as fc.Arbitrary<'navigate' | 'edit'>, fc.boolean(), (size, key, r, c, mode, editable) => {
-      const active = { row: r % size.rows, col: c % size.cols };
-      const out = gridKey({ size, active, mode, activeEditable: editable }, key);
-      expect(out.active).not.toBeNull();
-      expect(out.active!.row).toBeGreaterThanOrEqual(0);
-      expect(out.active!.row).toBeLessThan(size.rows);
-      expect(out.active!.col).toBeGreaterThanOrEqual(0);
-      expect(out.active!.col).toBeLessThan(size.cols);
-      // A calculated cell never opens an editor.
-      if (!editable && mode === 'navigate') expect(out.mode).toBe('navigate');
-      // An unused key changes nothing.
-      if (!out.handled) expect(out).toEqual({ handled: false, active, mode, command: { kind: 'none' } });
-    }));
+    fc.assert(
+      fc.property(
+        sizeArb,
+        keyArb,
+        fc.nat(),
+        fc.nat(),
+        fc.constantFrom('navigate', 'edit') as fc.Arbitrary<'navigate' | 'edit'>,
+        fc.boolean(),
+        (size, key, r, c, mode, editable) => {
+          const active = { row: r % size.rows, col: c % size.cols };
+          const out = gridKey({ size, active, mode, activeEditable: editable }, key);
+          expect(out.active).not.toBeNull();
+          expect(out.active!.row).toBeGreaterThanOrEqual(0);
+          expect(out.active!.row).toBeLessThan(size.rows);
+          expect(out.active!.col).toBeGreaterThanOrEqual(0);
+          expect(out.active!.col).toBeLessThan(size.cols);
+          // A calculated cell never opens an editor.
+          if (!editable && mode === 'navigate') expect(out.mode).toBe('navigate');
+          // An unused key changes nothing.
+          if (!out.handled) expect(out).toEqual({ handled: false, active, mode, command: { kind: 'none' } });
+        },
+      ),
+    );
   });
 
   it('clampPos pulls a stale position back inside a shrunken grid', () => {

@@ -21,14 +21,22 @@ const params = new URLSearchParams(location.search);
 // ?rows=N adds N more rows (every 5 minutes) to measure a long worksheet.
 const extra = Number(params.get('rows') ?? 0);
 for (let i = 0; i < extra; i += 1) {
-  ws = addRow(ctx, ws, new Date(FIXTURE_NOW + (i + 1) * 300_000).toISOString(), 60, { hr: { value: 80 + (i % 40) }, map: { value: 70 + (i % 15) }, sbp: { value: 110 }, dbp: { value: 60 } }).worksheet;
+  ws = addRow(ctx, ws, new Date(FIXTURE_NOW + (i + 1) * 300_000).toISOString(), 60, {
+    hr: { value: 80 + (i % 40) },
+    map: { value: 70 + (i % 15) },
+    sbp: { value: 110 },
+    dbp: { value: 60 },
+  }).worksheet;
 }
 grid.now = FIXTURE_NOW;
 show(ws);
 if (params.has('status')) {
   const rows = ws.rows;
   grid.highlightRows = new Set([rows[1]!.id]);
-  grid.pending = new Map([[`${rows[3]!.id}:lactate`, 'saving'], [`${rows[3]!.id}:hr`, 'failed']]);
+  grid.pending = new Map([
+    [`${rows[3]!.id}:lactate`, 'saving'],
+    [`${rows[3]!.id}:hr`, 'failed'],
+  ]);
 }
 grid.addEventListener('tm-edit', (e) => show(setCells(ctx, ws, e.detail.edits).worksheet));
 grid.addEventListener('tm-add-row', (e) => show(addRow(ctx, ws, e.detail.time, e.detail.offset).worksheet));

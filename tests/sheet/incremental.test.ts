@@ -73,9 +73,9 @@ const worksheetArb = fc
     return worksheet(input);
   });
 
-const editArb = fc.constantFrom(...KEYS).chain((key) =>
-  fc.record({ row: fc.nat(), key: fc.constant(key), clear: fc.boolean(), value: VALUE_OF[key]! }),
-);
+const editArb = fc
+  .constantFrom(...KEYS)
+  .chain((key) => fc.record({ row: fc.nat(), key: fc.constant(key), clear: fc.boolean(), value: VALUE_OF[key]! }));
 
 /** The edit applied to a worksheet, as setCell would (new objects, same row order). */
 function applyEdit(ws: Worksheet, rowIndex: number, key: string, cell: Cell | null): Worksheet {
@@ -143,7 +143,13 @@ describe('incremental recompute', () => {
   });
 
   it('falls back to a full recompute when rows or facts change', () => {
-    const ws = worksheet({ weightKg: 70, rows: [{ min: 0, cells: { fluid_ml: 700 } }, { min: 60, cells: { fluid_ml: 700 } }] });
+    const ws = worksheet({
+      weightKg: 70,
+      rows: [
+        { min: 0, cells: { fluid_ml: 700 } },
+        { min: 60, cells: { fluid_ml: 700 } },
+      ],
+    });
     const d = deriveAll(ws);
     const heavier = { ...ws, weightKg: 140 };
     const d2 = updateDerived(d, heavier, { rowIndex: 0, key: 'hr' });

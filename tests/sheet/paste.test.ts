@@ -39,13 +39,19 @@ function plan(text: string, target: PasteTarget) {
 
 describe('splitDelimited (RFC 4180 quoting)', () => {
   it('splits tabs and newlines, drops the trailing newline spreadsheets add', () => {
-    expect(splitDelimited('70\t110\n72\t115\n', '\t')).toEqual([['70', '110'], ['72', '115']]);
+    expect(splitDelimited('70\t110\n72\t115\n', '\t')).toEqual([
+      ['70', '110'],
+      ['72', '115'],
+    ]);
     expect(splitDelimited('a\r\nb\rc', '\t')).toEqual([['a'], ['b'], ['c']]);
     expect(splitDelimited('a\t\tc', '\t')).toEqual([['a', '', 'c']]);
   });
 
   it('reads quoted fields with delimiters, newlines and doubled quotes (RFC 4180 §2, rules 5–7)', () => {
-    expect(splitDelimited('"a,b",c\r\n"x ""y""",z', ',')).toEqual([['a,b', 'c'], ['x "y"', 'z']]);
+    expect(splitDelimited('"a,b",c\r\n"x ""y""",z', ',')).toEqual([
+      ['a,b', 'c'],
+      ['x "y"', 'z'],
+    ]);
     expect(splitDelimited('"line1\nline2"\tv', '\t')).toEqual([['line1\nline2', 'v']]);
   });
 });
@@ -91,8 +97,16 @@ describe('planPaste: by position', () => {
     // From SBP: sbp, shock_index (calculated), lactate, then nothing.
     const [first, second] = ids(ws);
     const p = plan('100\t0.9\t2.5\t7\n101\n102\n', at(ws, 0, 2));
-    expect(p.edits.map((e) => `${e.rowId}:${e.key}=${String(e.cell?.value)}`)).toEqual([`${first}:sbp=100`, `${first}:lactate=2.5`, `${second}:sbp=101`]);
-    expect(p.refused.map((r) => [r.line, r.field, r.input])).toEqual([[1, 2, '0.9'], [1, 4, '7'], [3, 1, '102']]);
+    expect(p.edits.map((e) => `${e.rowId}:${e.key}=${String(e.cell?.value)}`)).toEqual([
+      `${first}:sbp=100`,
+      `${first}:lactate=2.5`,
+      `${second}:sbp=101`,
+    ]);
+    expect(p.refused.map((r) => [r.line, r.field, r.input])).toEqual([
+      [1, 2, '0.9'],
+      [1, 4, '7'],
+      [3, 1, '102'],
+    ]);
     expect(p.refused[0]!.message).toMatch(/Shock index is calculated/);
     expect(p.refused[1]!.message).toMatch(/Past the last column/);
     expect(p.refused[2]!.message).toMatch(/Past the last row/);
@@ -140,7 +154,9 @@ describe('planPaste: with a header of keys', () => {
     const p = plan(text, at(ws, 1, 3));
     expect(p.layout).toEqual({ delimiter: 'comma', header: true, byTime: true });
     // 09:30 at +01:00 is 08:30Z: no row there, so a new one.
-    expect(p.newRows).toEqual([{ time: '2026-03-01T08:30:00.000Z', offset: 60, cells: { map: { value: 68 }, lactate: { value: 4.2, flag: 'high' } } }]);
+    expect(p.newRows).toEqual([
+      { time: '2026-03-01T08:30:00.000Z', offset: 60, cells: { map: { value: 68 }, lactate: { value: 4.2, flag: 'high' } } },
+    ]);
     // "08:00" on the worksheet's day at +01:00 is 07:00Z: the first row.
     expect(p.edits).toEqual([{ rowId: ids(ws)[0], key: 'map', cell: { value: 70 }, input: '70' }]);
     // Lactate 4.2 is above 4 mmol/L, the hour-1 bundle's fluid threshold (reference file §2): kept and flagged.
@@ -160,7 +176,10 @@ describe('planPaste: with a header of keys', () => {
     const ws = fixture();
     const p = plan('time\tmap\nsoon\t70\n25:00\t71\n', at(ws, 0, 1));
     expect(p.newRows).toEqual([]);
-    expect(p.refused.map((r) => [r.line, r.input])).toEqual([[2, 'soon'], [3, '25:00']]);
+    expect(p.refused.map((r) => [r.line, r.input])).toEqual([
+      [2, 'soon'],
+      [3, '25:00'],
+    ]);
     expect(p.refused[0]!.message).toMatch(/whole line is skipped/);
   });
 

@@ -69,7 +69,9 @@ const worksheetArb = fc
     return worksheet(input);
   });
 
-const editArb = fc.constantFrom(...KEYS).chain((key) => fc.record({ row: fc.nat(), key: fc.constant(key), clear: fc.boolean(), value: VALUE_OF[key]! }));
+const editArb = fc
+  .constantFrom(...KEYS)
+  .chain((key) => fc.record({ row: fc.nat(), key: fc.constant(key), clear: fc.boolean(), value: VALUE_OF[key]! }));
 
 /** One of the app's commands: a few cells at once, the weight, or a new row. */
 const commandArb = fc.oneof(
@@ -111,7 +113,12 @@ describe('rederive', () => {
   }
 
   it('names exactly the cells whose value changed, and gives up when rows change', () => {
-    const ws = worksheet({ rows: [{ min: 0, cells: { hr: 80, map: 70 } }, { min: 60, cells: { hr: 82 } }] });
+    const ws = worksheet({
+      rows: [
+        { min: 0, cells: { hr: 80, map: 70 } },
+        { min: 60, cells: { hr: 82 } },
+      ],
+    });
     const edited = setCells(ctx, ws, [
       { rowId: ws.rows[1]!.id, key: 'hr', cell: { value: 90 } },
       { rowId: ws.rows[1]!.id, key: 'lactate', cell: { value: 2 } },
@@ -130,7 +137,11 @@ describe('rederive', () => {
 
   it('recomputes in full past the limit of changed cells', () => {
     const ws = worksheet({ rows: Array.from({ length: MAX_INCREMENTAL_CHANGES + 2 }, (_, k) => ({ min: k * 15, cells: { hr: 80 } })) });
-    const pasted = setCells(ctx, ws, ws.rows.map((r) => ({ rowId: r.id, key: 'hr', cell: { value: 100 } })) ).worksheet;
+    const pasted = setCells(
+      ctx,
+      ws,
+      ws.rows.map((r) => ({ rowId: r.id, key: 'hr', cell: { value: 100 } })),
+    ).worksheet;
     expect(changedCells(ws, pasted)).toBeUndefined();
     expect(rederive(deriveAll(ws), ws, pasted).rows).toEqual(deriveAll(pasted).rows);
   });

@@ -34,14 +34,22 @@ function scoresOf(rows: RowInput[], options: ScoreOptions = {}, extra: { weightK
 
 describe('SOFA respiration, P/F mmHg (Sepsis-3 Table 1)', () => {
   it.each([
-    [450, 0], [400, 0], [399.9, 1], [300, 1], [299.9, 2], [200, 2],
+    [450, 0],
+    [400, 0],
+    [399.9, 1],
+    [300, 1],
+    [299.9, 2],
+    [200, 2],
   ])('P/F %s → %s', (pf, pts) => {
     expect(sofaRespiration(pf).points).toBe(pts);
     expect(sofaRespiration(pf).supportUnknown).toBe(false);
   });
 
   it.each([
-    [199.9, 3], [100, 3], [99.9, 4], [50, 4],
+    [199.9, 3],
+    [100, 3],
+    [99.9, 4],
+    [50, 4],
   ])('P/F %s with respiratory support → %s', (pf, pts) => {
     expect(sofaRespiration(pf, true)).toEqual({ points: pts, supportUnknown: false });
   });
@@ -72,13 +80,31 @@ describe('SOFA respiration, P/F mmHg (Sepsis-3 Table 1)', () => {
 
 describe('SOFA coagulation, platelets ×10³/µL (Sepsis-3 Table 1)', () => {
   it.each([
-    [150, 0], [149, 1], [100, 1], [99, 2], [50, 2], [49, 3], [20, 3], [19, 4],
+    [150, 0],
+    [149, 1],
+    [100, 1],
+    [99, 2],
+    [50, 2],
+    [49, 3],
+    [20, 3],
+    [19, 4],
   ])('platelets %s → %s', (p, pts) => expect(sofaCoagulation(p)).toBe(pts));
 });
 
 describe('SOFA liver, bilirubin mg/dL (Sepsis-3 Table 1; half-open bands, §15 #3)', () => {
   it.each([
-    [1.19, 0], [1.2, 1], [1.95, 1], [1.99, 1], [2.0, 2], [5.9, 2], [5.95, 2], [6.0, 3], [11.9, 3], [11.95, 3], [12.0, 4], [20, 4],
+    [1.19, 0],
+    [1.2, 1],
+    [1.95, 1],
+    [1.99, 1],
+    [2.0, 2],
+    [5.9, 2],
+    [5.95, 2],
+    [6.0, 3],
+    [11.9, 3],
+    [11.95, 3],
+    [12.0, 4],
+    [20, 4],
   ])('bilirubin %s → %s', (b, pts) => expect(sofaLiver(b)).toBe(pts));
 
   // µmol/L values between the table's rounded set (20/33/102/204) and the exact one
@@ -97,13 +123,29 @@ describe('SOFA liver, bilirubin mg/dL (Sepsis-3 Table 1; half-open bands, §15 #
 
 describe('SOFA CNS, GCS (Sepsis-3 Table 1)', () => {
   it.each([
-    [15, 0], [14, 1], [13, 1], [12, 2], [10, 2], [9, 3], [6, 3], [5, 4], [3, 4],
+    [15, 0],
+    [14, 1],
+    [13, 1],
+    [12, 2],
+    [10, 2],
+    [9, 3],
+    [6, 3],
+    [5, 4],
+    [3, 4],
   ])('GCS %s → %s', (g, pts) => expect(sofaCns(g)).toBe(pts));
 });
 
 describe('SOFA renal (Sepsis-3 Table 1; half-open bands, §15 #3)', () => {
   it.each([
-    [1.19, 0], [1.2, 1], [1.99, 1], [2.0, 2], [3.49, 2], [3.5, 3], [4.99, 3], [5.0, 4], [8, 4],
+    [1.19, 0],
+    [1.2, 1],
+    [1.99, 1],
+    [2.0, 2],
+    [3.49, 2],
+    [3.5, 3],
+    [4.99, 3],
+    [5.0, 4],
+    [8, 4],
   ])('creatinine %s mg/dL → %s', (c, pts) => expect(sofaRenalCreatinine(c)).toBe(pts));
 
   // Between the rounded µmol/L set (110/171/300/440) and the exact one (106.1/176.8/309.4/442.0), §15 #2.
@@ -119,7 +161,12 @@ describe('SOFA renal (Sepsis-3 Table 1; half-open bands, §15 #3)', () => {
   ])('creatinine %s → %s', (text, pts) => expect(sofaRenalCreatinine(canonical('creatinine', text))).toBe(pts));
 
   it.each([
-    [800, 0], [500, 0], [499, 3], [200, 3], [199, 4], [0, 4],
+    [800, 0],
+    [500, 0],
+    [499, 3],
+    [200, 3],
+    [199, 4],
+    [0, 4],
   ])('urine %s mL/day → %s', (u, pts) => expect(sofaRenalUrine(u)).toBe(pts));
 });
 
@@ -231,7 +278,10 @@ describe('SOFA over the 24 h window', () => {
   });
 
   it('renal is missing with neither creatinine nor 24 h of urine', () => {
-    const s = scoresOf([{ min: 0, cells: { uo_ml: 50 } }, { min: 60, cells: { uo_ml: 50 } }]).sofa;
+    const s = scoresOf([
+      { min: 0, cells: { uo_ml: 50 } },
+      { min: 60, cells: { uo_ml: 50 } },
+    ]).sofa;
     expect(s.parts.renal).toBeUndefined();
     expect(s.missing).toContain('creatinine');
   });
@@ -269,7 +319,12 @@ describe('qSOFA (Sepsis-3; RR ≥ 22 and SBP ≤ 100 are positive, reference §1
 describe('SIRS (Bone 1992 by default; SEP-1 variant selectable, reference §7, §3a, §15 #4–5)', () => {
   const full = { hr: 80, rr: 16, wbc: 8 };
   it.each([
-    [38.0, 0, 0], [38.1, 1, 0], [38.3, 1, 0], [38.4, 1, 1], [36.0, 0, 0], [35.9, 1, 1],
+    [38.0, 0, 0],
+    [38.1, 1, 0],
+    [38.3, 1, 0],
+    [38.4, 1, 1],
+    [36.0, 0, 0],
+    [35.9, 1, 1],
   ])('temperature %s °C: Bone %s, SEP-1 %s', (t, bone, sep1) => {
     expect(scoresOf([{ min: 0, cells: { ...full, temp: t } }]).sirs.parts.temperature).toBe(bone);
     expect(scoresOf([{ min: 0, cells: { ...full, temp: t } }], { sirsCriteria: 'sep1' }).sirs.parts.temperature).toBe(sep1);
@@ -284,9 +339,14 @@ describe('SIRS (Bone 1992 by default; SEP-1 variant selectable, reference §7, �
   });
 
   it.each([
-    ['hr', 90, 'heart_rate', 0], ['hr', 91, 'heart_rate', 1],
-    ['rr', 20, 'respiratory', 0], ['rr', 21, 'respiratory', 1],
-    ['wbc', 12, 'white_cells', 0], ['wbc', 12.1, 'white_cells', 1], ['wbc', 4, 'white_cells', 0], ['wbc', 3.9, 'white_cells', 1],
+    ['hr', 90, 'heart_rate', 0],
+    ['hr', 91, 'heart_rate', 1],
+    ['rr', 20, 'respiratory', 0],
+    ['rr', 21, 'respiratory', 1],
+    ['wbc', 12, 'white_cells', 0],
+    ['wbc', 12.1, 'white_cells', 1],
+    ['wbc', 4, 'white_cells', 0],
+    ['wbc', 3.9, 'white_cells', 1],
   ] as const)('%s %s → %s %s', (key, v, part, pts) => {
     const s = scoresOf([{ min: 0, cells: { temp: 37, ...full, [key]: v } }]).sirs;
     expect(s.parts[part]).toBe(pts);
@@ -328,14 +388,20 @@ describe('score values in deriveAll', () => {
 describe('window scanning', () => {
   it('the sliding scanner gives the same extremes as a direct scan, from any starting row (fast-check)', () => {
     const rowsArb = fc.array(
-      fc.record({ gap: fc.integer({ min: 0, max: 600 }), platelets: fc.option(fc.integer({ min: 10, max: 40 }), { nil: undefined }), gcs: fc.option(fc.integer({ min: 3, max: 6 }), { nil: undefined }) }),
+      fc.record({
+        gap: fc.integer({ min: 0, max: 600 }),
+        platelets: fc.option(fc.integer({ min: 10, max: 40 }), { nil: undefined }),
+        gcs: fc.option(fc.integer({ min: 3, max: 6 }), { nil: undefined }),
+      }),
       { minLength: 1, maxLength: 60 },
     );
     fc.assert(
       fc.property(rowsArb, fc.nat(), fc.constantFrom(1, 6, 24), (rows, startAt, windowHours) => {
         let t = 0;
         const times = rows.map((r) => (t += r.gap * 60_000));
-        const input = makeScoreInput(times, (j, key) => (key === 'platelets' ? rows[j]!.platelets : key === 'gcs' ? rows[j]!.gcs : undefined));
+        const input = makeScoreInput(times, (j, key) =>
+          key === 'platelets' ? rows[j]!.platelets : key === 'gcs' ? rows[j]!.gcs : undefined,
+        );
         const scanner = new WindowScanner(input, windowHours);
         for (let i = startAt % rows.length; i < rows.length; i++) {
           expect(scanner.at(i)).toEqual(scanWindow(input, i, windowHours));

@@ -67,7 +67,9 @@ async function save(el: TmDerivedColumns): Promise<void> {
 
 /** Preview table cells: [time, value] per row. */
 function previewCells(el: TmDerivedColumns): string[][] {
-  return [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent.trim()));
+  return [...root(el).querySelectorAll('.editor table.preview tbody tr')].map((tr) =>
+    [...tr.querySelectorAll('td')].map((td) => td.textContent.trim()),
+  );
 }
 
 /** Up to 3 decimals, trailing zeros dropped: written here, not imported, to check the element. */
@@ -168,7 +170,7 @@ describe('tm-derived-columns: list and keyboard', () => {
     const items = root(el).querySelectorAll('ul.items > li');
     expect(items).to.have.length(1);
     expect(items[0]!.textContent).to.contain('fluid_per_h');
-    ($<HTMLButtonElement>(el, 'ul.items > li button.danger')).click();
+    $<HTMLButtonElement>(el, 'ul.items > li button.danger').click();
     await el.updateComplete;
     expect(root(el).querySelectorAll('ul.items > li')).to.have.length(0);
     await save(el);
@@ -199,7 +201,19 @@ describe('tm-derived-columns: list and keyboard', () => {
     $<HTMLButtonElement>(el, '#add').click();
     await el.updateComplete;
     const help = $(el, '.editor details.help').textContent;
-    for (const name of ['lactate', 'uo_ml', 'shock_index', 'fluid_ml_kg', 'sofa', 'dosing_weight', 'baseline_sbp', 'prev(key)', 'running_sum(key)', 'sqrt()', 'fluid_per_h']) {
+    for (const name of [
+      'lactate',
+      'uo_ml',
+      'shock_index',
+      'fluid_ml_kg',
+      'sofa',
+      'dosing_weight',
+      'baseline_sbp',
+      'prev(key)',
+      'running_sum(key)',
+      'sqrt()',
+      'fluid_per_h',
+    ]) {
       expect(help, name).to.contain(name);
     }
   });

@@ -142,13 +142,20 @@ describe('tm-grid: roles and names', () => {
     const headers = [...root(h.grid).querySelectorAll('[role="columnheader"]')].map(text);
     eq(headers.slice(0, 4), ['Time UTC+01:00', 'MAP mmHg', 'SBP mmHg', 'DBP mmHg'], 'first headers: label and unit');
     // No spreadsheet column letters or cell addresses anywhere (project rule).
-    ok(headers.every((t) => !/^[A-Z]{1,2}$/.test(t)), 'no column letters');
+    ok(
+      headers.every((t) => !/^[A-Z]{1,2}$/.test(t)),
+      'no column letters',
+    );
     // Row headers: the time in the worksheet's offset (+01:00); 07:40Z is 08:40 there.
     const rowHeaders = [...root(h.grid).querySelectorAll('[role="rowheader"]')];
     eq(text(rowHeaders[0]?.querySelector('.v')), '08:40', 'first row time');
     eq(rowHeaders[0]?.getAttribute('title'), '2026-03-01 08:40 (UTC+01:00)', 'full date in the title');
     const rows = [...root(h.grid).querySelectorAll('tbody [role="row"]')];
-    eq(rows.map((r) => r.getAttribute('aria-rowindex')), ['2', '3', '4', '5'], 'aria-rowindex');
+    eq(
+      rows.map((r) => r.getAttribute('aria-rowindex')),
+      ['2', '3', '4', '5'],
+      'aria-rowindex',
+    );
     eq(cell(h, 0, 'sbp').getAttribute('aria-colindex'), '3', 'aria-colindex of SBP');
   });
 
@@ -170,7 +177,10 @@ describe('tm-grid: roles and names', () => {
     const h = await setup();
     const [, second, , last] = h.ws().rows;
     h.grid.highlightRows = new Set([second!.id]);
-    h.grid.pending = new Map([[`${last!.id}:lactate`, 'saving'], [`${last!.id}:hr`, 'failed']]);
+    h.grid.pending = new Map([
+      [`${last!.id}:lactate`, 'saving'],
+      [`${last!.id}:hr`, 'failed'],
+    ]);
     await settle(h.grid);
     ok(text(cell(h, 3, 'lactate')).includes('◌ saving'), 'saving word and symbol');
     ok(text(cell(h, 3, 'hr')).includes('✕ not saved'), 'failed word and symbol');
@@ -220,7 +230,10 @@ describe('tm-grid: keyboard navigation (APG data grid)', () => {
   it('pages by a visible page with Page Down / Page Up and keeps the cell in view', async () => {
     let ws = gridFixture();
     const ctx: Ctx = { clock: new FixedClock(FIXTURE_NOW) };
-    for (let i = 0; i < 26; i += 1) ws = addRow(ctx, ws, new Date(Date.parse('2026-03-01T10:00:00Z') + i * 300_000).toISOString(), 60, { hr: { value: 90 + i } }).worksheet;
+    for (let i = 0; i < 26; i += 1)
+      ws = addRow(ctx, ws, new Date(Date.parse('2026-03-01T10:00:00Z') + i * 300_000).toISOString(), 60, {
+        hr: { value: 90 + i },
+      }).worksheet;
     const h = await setup(ws, { maxHeight: '320px' });
     await focusCell(h, 0, 'hr');
     await press('PageDown');
@@ -286,10 +299,14 @@ describe('tm-grid: editing', () => {
     await type('58');
     await press('F2');
     eq(focusedCell(h), { row: 3, col: 'dbp' }, 'F2 stays');
-    eq(h.of('tm-edit').map((d) => (d as { edits: { key: string; cell: unknown }[] }).edits[0]), [
-      { rowId: h.ws().rows[3]!.id, key: 'sbp', cell: { value: 104 }, input: '104' },
-      { rowId: h.ws().rows[3]!.id, key: 'dbp', cell: { value: 58 }, input: '58' },
-    ], 'two edits');
+    eq(
+      h.of('tm-edit').map((d) => (d as { edits: { key: string; cell: unknown }[] }).edits[0]),
+      [
+        { rowId: h.ws().rows[3]!.id, key: 'sbp', cell: { value: 104 }, input: '104' },
+        { rowId: h.ws().rows[3]!.id, key: 'dbp', cell: { value: 58 }, input: '58' },
+      ],
+      'two edits',
+    );
   });
 
   it('refuses an invalid entry at the cell, keeps the editor open and emits nothing', async () => {
@@ -375,7 +392,11 @@ describe('tm-grid: rows, undo, columns', () => {
     await press('Control+z');
     await press('Control+Shift+Z');
     await press('Control+y');
-    eq(h.events.map((e) => e.name), ['tm-undo', 'tm-redo', 'tm-redo'], 'events');
+    eq(
+      h.events.map((e) => e.name),
+      ['tm-undo', 'tm-redo', 'tm-redo'],
+      'events',
+    );
   });
 
   it('Alt+N adds a row now (from the injected clock) and moves to it', async () => {
@@ -454,15 +475,27 @@ describe('tm-grid: paste', () => {
     const dialog = $<HTMLDialogElement>(h.grid, 'dialog.paste');
     ok(dialog.open, 'preview open');
     eq(h.events.length, 0, 'nothing emitted before confirming');
-    ok(/2 values to store/.test(text($(h.grid, '#paste-counts'))) && /2 refused/.test(text($(h.grid, '#paste-counts'))), `counts: ${text($(h.grid, '#paste-counts'))}`);
+    ok(
+      /2 values to store/.test(text($(h.grid, '#paste-counts'))) && /2 refused/.test(text($(h.grid, '#paste-counts'))),
+      `counts: ${text($(h.grid, '#paste-counts'))}`,
+    );
     ok(/outside the accepted range/.test(text(dialog)) && /not a number/.test(text(dialog)), 'reasons listed');
     $<HTMLButtonElement>(h.grid, 'dialog.paste button.confirm').click();
     await settle(h.grid);
     const [r2, r3] = [h.ws().rows[2]!.id, h.ws().rows[3]!.id];
-    eq(h.of('tm-paste'), [{ newRows: [], edits: [
-      { rowId: r2, key: 'map', cell: { value: 66 }, input: '66' },
-      { rowId: r3, key: 'sbp', cell: { value: 110 }, input: '110' },
-    ] }], 'only accepted values, one event');
+    eq(
+      h.of('tm-paste'),
+      [
+        {
+          newRows: [],
+          edits: [
+            { rowId: r2, key: 'map', cell: { value: 66 }, input: '66' },
+            { rowId: r3, key: 'sbp', cell: { value: 110 }, input: '110' },
+          ],
+        },
+      ],
+      'only accepted values, one event',
+    );
     ok(!dialog.open, 'preview closed');
   });
 
@@ -477,7 +510,11 @@ describe('tm-grid: paste', () => {
     paste(h, 'time\tmap\n10:45\t71\n');
     await settle(h.grid);
     $<HTMLButtonElement>(h.grid, 'dialog.paste button.confirm').click();
-    eq(h.of('tm-paste'), [{ newRows: [{ time: '2026-03-01T09:45:00.000Z', offset: 60, cells: { map: { value: 71 } } }], edits: [] }], 'new row');
+    eq(
+      h.of('tm-paste'),
+      [{ newRows: [{ time: '2026-03-01T09:45:00.000Z', offset: 60, cells: { map: { value: 71 } } }], edits: [] }],
+      'new row',
+    );
   });
 
   it('a single pasted value opens the editor with it, read like typing', async () => {
@@ -523,14 +560,20 @@ describe('tm-grid: accessibility scan (axe-core)', () => {
     planted.type = 'text';
     $(h.grid, '.bar').append(planted);
     const found = await seriousViolations(h.grid);
-    ok(found.some((f) => f.startsWith('label ')), `the planted field is reported: ${JSON.stringify(found)}`);
+    ok(
+      found.some((f) => f.startsWith('label ')),
+      `the planted field is reported: ${JSON.stringify(found)}`,
+    );
   });
 
   it('finds no serious or critical violation in the grid, with statuses, an open editor error and the chooser', async () => {
     const h = await setup();
     const [, second, , last] = h.ws().rows;
     h.grid.highlightRows = new Set([second!.id]);
-    h.grid.pending = new Map([[`${last!.id}:lactate`, 'saving'], [`${last!.id}:hr`, 'failed']]);
+    h.grid.pending = new Map([
+      [`${last!.id}:lactate`, 'saving'],
+      [`${last!.id}:hr`, 'failed'],
+    ]);
     $<HTMLButtonElement>(h.grid, 'button.columns').click();
     await settle(h.grid);
     await focusCell(h, 3, 'map');
@@ -553,5 +596,8 @@ describe('tm-grid: accessibility scan (axe-core)', () => {
 });
 
 interface AxeLike {
-  run(context: Element, options: { resultTypes: string[] }): Promise<{ violations: { id: string; impact?: string | null; help: string; nodes: { target: unknown }[] }[] }>;
+  run(
+    context: Element,
+    options: { resultTypes: string[] },
+  ): Promise<{ violations: { id: string; impact?: string | null; help: string; nodes: { target: unknown }[] }[] }>;
 }

@@ -426,7 +426,7 @@ describe('hostile and malformed backups (fuzz)', () => {
         const doc = JSON.parse(baseJson) as { worksheets: Record<string, unknown>[] };
         const ws = doc.worksheets[0]!;
         if (place === 'label' || place === 'id') ws[place] = huge;
-        else if (place === 'cells') ((ws['rows'] as { cells: Record<string, unknown> }[])[0]!.cells)['note'] = { value: huge };
+        else if (place === 'cells') (ws['rows'] as { cells: Record<string, unknown> }[])[0]!.cells['note'] = { value: huge };
         else if (place === 'note') (ws['log'] as Record<string, unknown>[])[0]!['note'] = huge;
         else ws['timeZero'] = { time: '2026-03-01T07:40:00.000Z', offset: 60, basis: 'other', reason: huge };
         await check(JSON.stringify(doc), before);
@@ -438,10 +438,13 @@ describe('hostile and malformed backups (fuzz)', () => {
 
   it('readBackup never throws on arbitrary JavaScript values', () => {
     fc.assert(
-      fc.property(fc.anything({ withNullPrototype: true, withObjectString: true, withBigInt: true, withMap: true, withSet: true }), (value) => {
-        const r = readBackup(value);
-        expect(typeof r.ok).toBe('boolean');
-      }),
+      fc.property(
+        fc.anything({ withNullPrototype: true, withObjectString: true, withBigInt: true, withMap: true, withSet: true }),
+        (value) => {
+          const r = readBackup(value);
+          expect(typeof r.ok).toBe('boolean');
+        },
+      ),
       { numRuns: 500 },
     );
     prototypeClean();

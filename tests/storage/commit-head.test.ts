@@ -58,7 +58,10 @@ describe('commit checks the stored head', () => {
     await store.create(ws);
     const edit = setCell(ctx, ws, ws.rows[0]!.id, 'rr', { value: 26 });
     // Same revision, but the log skips an entry: its new entry would be entry logCount + 1.
-    const gap = { worksheet: { ...edit.worksheet, log: [...ws.log, { ...edit.entries[0]!, id: 'gap' }, ...edit.entries] }, entries: edit.entries };
+    const gap = {
+      worksheet: { ...edit.worksheet, log: [...ws.log, { ...edit.entries[0]!, id: 'gap' }, ...edit.entries] },
+      entries: edit.entries,
+    };
     const skipped = await store.commit(gap, ws.rev);
     expect(skipped).toMatchObject({ ok: false, reason: 'invalid' });
     // The log one entry short of the stored one: its new entry would overwrite the last stored one.

@@ -308,7 +308,7 @@ describe('remove, putAll, meta', () => {
     expect(r.added).toEqual([b.id]);
     expect(r.replaced).toEqual([a.id]);
     // Imports use durability 'strict' (reference §1.2: migrations and bulk imports).
-    expect(txSpy.mock.calls.some((call) => (call[2])?.durability === 'strict')).toBe(true);
+    expect(txSpy.mock.calls.some((call) => call[2]?.durability === 'strict')).toBe(true);
     const stored = (await store.get(a.id))!;
     expect(stored.rev).toBe(c2.worksheet.rev + 1);
     expect(stored).toStrictEqual({ ...a, rev: c2.worksheet.rev + 1 });
@@ -351,7 +351,11 @@ describe('schema versions and upgrades', () => {
       return { ...rest, logCount: log.length };
     });
     await rawPut(v1, 'worksheets', [...records, { id: 'broken', label: 42 }]);
-    await rawPut(v1, 'log', [a, b].flatMap((ws) => ws.log.map((entry, seq) => ({ worksheetId: ws.id, seq, entry }))));
+    await rawPut(
+      v1,
+      'log',
+      [a, b].flatMap((ws) => ws.log.map((entry, seq) => ({ worksheetId: ws.id, seq, entry }))),
+    );
     await rawPut(v1, 'meta', [{ id: a.id }], ['lastOpened']);
     v1.close();
 
@@ -374,7 +378,11 @@ describe('schema versions and upgrades', () => {
     const v1 = await rawOpen(factory, name, 1, (db) => createV1Layout(db));
     const { log, ...rest } = a;
     await rawPut(v1, 'worksheets', [{ ...rest, logCount: log.length }]);
-    await rawPut(v1, 'log', log.map((entry, seq) => ({ worksheetId: a.id, seq, entry })));
+    await rawPut(
+      v1,
+      'log',
+      log.map((entry, seq) => ({ worksheetId: a.id, seq, entry })),
+    );
     v1.close();
 
     // The real v2 step runs (creates the store, writes summaries), then a later part fails.

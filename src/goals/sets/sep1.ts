@@ -7,7 +7,8 @@
 import type { GoalSetDef, Predicate } from '../schema.js';
 import { H24, H3, H48, H6, VASOPRESSOR_KEYS } from './common.js';
 
-const SOURCE = 'CMS/The Joint Commission SEP-1, Specifications Manual for National Hospital Inpatient Quality Measures, SEP measure set (reference file §3)';
+const SOURCE =
+  'CMS/The Joint Commission SEP-1, Specifications Manual for National Hospital Inpatient Quality Measures, SEP measure set (reference file §3)';
 const VERSION = 'SEP-1 manual v5.3 numerator';
 
 /** Persistent hypotension: 2 consecutive low readings in the hour after 30 mL/kg ends (reference file §3b). */
@@ -100,7 +101,8 @@ export const SEP1: GoalSetDef = {
       condition: { kind: 'initial-value', key: 'lactate', op: '>', value: 2, lookbackMinutes: H6 },
       rule: { kind: 'repeat-value-within', key: 'lactate', lookbackMinutes: H6, event: 'repeat lactate' },
       deadline: { minutes: H6, from: 'time-zero' },
-      decision: 'Trigger: first lactate above 2 mmol/L; exactly 2.0 does not call for a repeat (reference file §15 #8; the hour-1 table confirms "> 2").',
+      decision:
+        'Trigger: first lactate above 2 mmol/L; exactly 2.0 does not call for a repeat (reference file §15 #8; the hour-1 table confirms "> 2").',
     },
     {
       id: 'fluids-30',

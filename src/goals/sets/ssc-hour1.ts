@@ -6,7 +6,8 @@
 import type { GoalSetDef } from '../schema.js';
 import { H1, H24, H4, H48, H6, VASOPRESSOR_KEYS } from './common.js';
 
-const SOURCE = 'Levy MM, Evans LE, Rhodes A. The Surviving Sepsis Campaign Bundle: 2018 update. Intensive Care Med 2018;44(6):925–928 (reference file §2, Table 1)';
+const SOURCE =
+  'Levy MM, Evans LE, Rhodes A. The Surviving Sepsis Campaign Bundle: 2018 update. Intensive Care Med 2018;44(6):925–928 (reference file §2, Table 1)';
 const VERSION = 'Hour-1 bundle, 2018';
 
 export const SSC_HOUR1: GoalSetDef = {

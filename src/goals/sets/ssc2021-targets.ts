@@ -7,7 +7,8 @@
 import type { GoalSetDef } from '../schema.js';
 import { H6, LACTATE_RAISED, ON_VASOPRESSOR } from './common.js';
 
-const SOURCE = 'Evans L, Rhodes A, Alhazzani W, et al. Surviving Sepsis Campaign: international guidelines for management of sepsis and septic shock 2021. Intensive Care Med 2021;47(11):1181–1247 (reference file §1)';
+const SOURCE =
+  'Evans L, Rhodes A, Alhazzani W, et al. Surviving Sepsis Campaign: international guidelines for management of sepsis and septic shock 2021. Intensive Care Med 2021;47(11):1181–1247 (reference file §1)';
 const VERSION = 'SSC adult guideline 2021';
 
 export const SSC2021_TARGETS: GoalSetDef = {
