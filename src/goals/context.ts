@@ -154,11 +154,6 @@ export function compare(a: number, op: '>' | '>=' | '<' | '<=', b: number): bool
   }
 }
 
-/** Rows in [fromMs, atMs]. */
-export function rowsFrom(ctx: EvalContext, fromMs: number): TimedRow[] {
-  return ctx.rows.filter((r) => r.ms >= fromMs);
-}
-
 /** "08:15", or "2026-03-01 08:15" when the day differs from time zero's day, in the worksheet offset. */
 export function clockText(ctx: EvalContext, ms: number): string {
   const iso = new Date(ms).toISOString();

@@ -29,7 +29,6 @@ import { evalRule } from './rules.js';
 import type { GoalDef, GoalSetDef, GoalStatusKind } from './schema.js';
 import { baseStatus, decide, sentence, type DeadlineInfo, type GoalStatus } from './status.js';
 
-export type { TargetInfo, VolumeInfo } from './rules.js';
 export type { GoalStatus } from './status.js';
 
 function deadlineOf(ctx: EvalContext, goal: GoalDef, cond: PredicateResult): DeadlineInfo | undefined {

@@ -30,9 +30,4 @@ export function toInstant(ms: number): string {
   return new Date(ms).toISOString();
 }
 
-/** Parses an ISO instant (any offset) to milliseconds, or NaN. */
-export function toMs(iso: string): number {
-  return new Date(iso).getTime();
-}
-
 export const MINUTE_MS = 60_000;

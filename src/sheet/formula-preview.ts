@@ -72,12 +72,10 @@ export function formatPreviewNumber(v: number): string {
   return s === '-0' ? '0' : s;
 }
 
-/** "08:40" in the worksheet's offset, or "2026-03-01 08:40" when the day is not the reference day. */
-export function rowClock(ws: Worksheet, iso: string): string {
-  return clockFormatter(ws)(iso);
-}
-
-/** rowClock for many rows: the reference day (time zero's, else the first row's) worked out once. */
+/**
+ * Row times for people: "08:40" in the worksheet's offset, or "2026-03-01 08:40" when the day is not
+ * the reference day (time zero's, else the first row's), which is worked out once.
+ */
 function clockFormatter(ws: Worksheet): (iso: string) => string {
   const ref = ws.timeZero?.time ?? ws.rows[0]?.time;
   const refDay = ref ? formatDateTime(ref, ws.displayOffset).slice(0, 10) : undefined;
@@ -92,7 +90,7 @@ export interface RowOutcome {
   rowId: string;
   /** UTC ISO. */
   time: string;
-  /** Row time for people (see rowClock). */
+  /** Row time for people (see clockFormatter). */
   clock: string;
   kind: 'number' | 'true' | 'false' | 'none';
   /** The number when kind is 'number'. */

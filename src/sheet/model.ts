@@ -150,5 +150,3 @@ export const Worksheet = z.strictObject({
 });
 export type Worksheet = z.infer<typeof Worksheet>;
 
-/** Version of the stored/exported worksheet shape. Bump with a migration in src/storage. */
-export const WORKSHEET_SCHEMA_VERSION = 1;

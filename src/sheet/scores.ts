@@ -35,7 +35,6 @@
 
 /** Score keys, in the derived-measure vocabulary. */
 export const SCORE_KEYS = ['sofa', 'qsofa', 'sirs'] as const;
-export type ScoreKey = (typeof SCORE_KEYS)[number];
 
 export type SirsCriteria = 'bone1992' | 'sep1';
 

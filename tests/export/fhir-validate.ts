@@ -25,7 +25,3 @@ export function fhirProblems(resource: object): FhirMessage[] {
   );
 }
 
-/** All messages (for reporting counts). */
-export function fhirMessages(resource: object): FhirMessage[] {
-  return validator.validate(resource, { errorOnUnexpected: true }).messages;
-}

@@ -4,7 +4,6 @@ import { Worksheet as WorksheetSchema } from '../../src/sheet/model.js';
 
 export const T0 = Date.parse('2026-03-01T08:00:00.000Z');
 export const MIN = 60_000;
-export const HOUR = 3_600_000;
 
 export type CellInput = number | string | true;
 
