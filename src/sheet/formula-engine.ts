@@ -167,10 +167,60 @@ const ConditionalNodeCtor = math.ConditionalNode;
  * only with the plainer message.
  */
 const UNIT_WORDS: ReadonlySet<string> = new Set([
-  'm', 'cm', 'mm', 'km', 'inch', 'in', 'ft', 'kg', 'g', 'mg', 'mcg', 'ug', 'lb', 'lbs', 'l', 'L', 'ml', 'mL', 'dl', 'dL', 'cl',
-  'h', 'hour', 'hours', 'min', 'minute', 'minutes', 's', 'sec', 'second', 'seconds', 'day', 'days', 'mol', 'mmol', 'umol',
-  'mEq', 'meq', 'mmHg', 'cmH2O', 'kPa', 'Pa', 'bar', 'atm', 'degC', 'degF', 'celsius', 'fahrenheit', 'K', 'U', 'IU', 'units',
-  'percent', 'bpm',
+  'm',
+  'cm',
+  'mm',
+  'km',
+  'inch',
+  'in',
+  'ft',
+  'kg',
+  'g',
+  'mg',
+  'mcg',
+  'ug',
+  'lb',
+  'lbs',
+  'l',
+  'L',
+  'ml',
+  'mL',
+  'dl',
+  'dL',
+  'cl',
+  'h',
+  'hour',
+  'hours',
+  'min',
+  'minute',
+  'minutes',
+  's',
+  'sec',
+  'second',
+  'seconds',
+  'day',
+  'days',
+  'mol',
+  'mmol',
+  'umol',
+  'mEq',
+  'meq',
+  'mmHg',
+  'cmH2O',
+  'kPa',
+  'Pa',
+  'bar',
+  'atm',
+  'degC',
+  'degF',
+  'celsius',
+  'fahrenheit',
+  'K',
+  'U',
+  'IU',
+  'units',
+  'percent',
+  'bpm',
 ]);
 const isValuelessUnit = (name: string): boolean => UNIT_WORDS.has(name);
 
@@ -207,8 +257,18 @@ math.import(
  * trees), plus a few more entry points we never need. All are replaced by throwing stubs.
  */
 export const DISABLED_MATH_FUNCTIONS: readonly string[] = [
-  'import', 'createUnit', 'reviver', 'evaluate', 'parse', 'simplify', 'derivative', 'resolve',
-  'compile', 'parser', 'chain', 'help',
+  'import',
+  'createUnit',
+  'reviver',
+  'evaluate',
+  'parse',
+  'simplify',
+  'derivative',
+  'resolve',
+  'compile',
+  'parser',
+  'chain',
+  'help',
 ];
 
 /**
@@ -274,7 +334,12 @@ export const HELPERS: readonly HelperDef[] = [
   { name: 'prev', signature: 'prev(key)', description: 'the last value of key in an earlier row', takesKey: true },
   { name: 'first', signature: 'first(key)', description: 'the first value of key, in this row or an earlier one', takesKey: true },
   { name: 'at_t0', signature: 'at_t0(key)', description: 'the value of key at time zero, or the last one before it', takesKey: true },
-  { name: 'running_sum', signature: 'running_sum(key)', description: 'the sum of key from time zero (or the first row) to this row', takesKey: true },
+  {
+    name: 'running_sum',
+    signature: 'running_sum(key)',
+    description: 'the sum of key from time zero (or the first row) to this row',
+    takesKey: true,
+  },
   { name: 'has', signature: 'has(key)', description: 'true when key has a value in this row', takesKey: true },
   { name: 'hours_since_prev', signature: 'hours_since_prev()', description: 'hours since the previous row', takesKey: false },
   { name: 'hours_since_t0', signature: 'hours_since_t0()', description: 'hours since time zero (negative before it)', takesKey: false },
@@ -298,8 +363,24 @@ function own(table: object, key: string): boolean {
 }
 
 const OPERATORS: ReadonlySet<string> = new Set([
-  'add', 'subtract', 'multiply', 'divide', 'pow', 'mod', 'unaryMinus', 'unaryPlus',
-  'smaller', 'smallerEq', 'larger', 'largerEq', 'equal', 'unequal', 'and', 'or', 'not', 'xor',
+  'add',
+  'subtract',
+  'multiply',
+  'divide',
+  'pow',
+  'mod',
+  'unaryMinus',
+  'unaryPlus',
+  'smaller',
+  'smallerEq',
+  'larger',
+  'largerEq',
+  'equal',
+  'unequal',
+  'and',
+  'or',
+  'not',
+  'xor',
   'nullish',
 ]);
 
@@ -307,8 +388,8 @@ const OPERATORS: ReadonlySet<string> = new Set([
 const REFUSED_OPERATORS: Readonly<Record<string, string>> = {
   to: 'unit conversion ("to"/"in") is not allowed; values are already in the units shown in the column headers',
   factorial: 'the factorial "!" is not allowed',
-  ctranspose: 'the transpose mark \' is not allowed (and text in quotes is not allowed either)',
-  transpose: 'the transpose mark \' is not allowed',
+  ctranspose: "the transpose mark ' is not allowed (and text in quotes is not allowed either)",
+  transpose: "the transpose mark ' is not allowed",
   bitAnd: 'the bitwise operator & is not allowed; use "and"',
   bitOr: 'the bitwise operator | is not allowed; use "or"',
   bitXor: 'the bitwise operator ^| is not allowed; use "xor"',
@@ -344,7 +425,20 @@ export function reservedNameReason(name: string): string | undefined {
   if (own(ALLOWED_FUNCTIONS, name) || own(OPERATOR_WORDS, name)) return `"${name}" is a formula function or word`;
   return undefined;
 }
-const OPERATOR_WORDS: Readonly<Record<string, true>> = { and: true, or: true, not: true, xor: true, mod: true, to: true, in: true, true: true, false: true, null: true, undefined: true, end: true };
+const OPERATOR_WORDS: Readonly<Record<string, true>> = {
+  and: true,
+  or: true,
+  not: true,
+  xor: true,
+  mod: true,
+  to: true,
+  in: true,
+  true: true,
+  false: true,
+  null: true,
+  undefined: true,
+  end: true,
+};
 
 // --- References and the compiled formula ----------------------------------------------------
 
@@ -445,7 +539,8 @@ interface Token {
 /** Identifiers in the text with their 1-based positions, skipping quoted text. */
 function identifiers(text: string): Token[] {
   const out: Token[] = [];
-  const re = /"(?:[^"\\]|\\.)*"?|'(?:[^'\\]|\\.)*'?|[A-Za-z_$\u00C0-\uFFFF][A-Za-z0-9_$\u00C0-\uFFFF]*|0[xXbBoO][0-9a-fA-F]+|\d*\.?\d+(?:[eE][+-]?\d+)?/g;
+  const re =
+    /"(?:[^"\\]|\\.)*"?|'(?:[^'\\]|\\.)*'?|[A-Za-z_$\u00C0-\uFFFF][A-Za-z0-9_$\u00C0-\uFFFF]*|0[xXbBoO][0-9a-fA-F]+|\d*\.?\d+(?:[eE][+-]?\d+)?/g;
   let m: RegExpExecArray | null;
   while ((m = re.exec(text)) !== null) {
     const s = m[0];
@@ -496,7 +591,10 @@ function suggest(name: string, candidates: Iterable<string>): string {
 // --- Compile ---------------------------------------------------------------------------------
 
 class Refusal extends Error {
-  constructor(message: string, readonly position: number | undefined) {
+  constructor(
+    message: string,
+    readonly position: number | undefined,
+  ) {
     super(message);
   }
 }
@@ -545,7 +643,11 @@ function checkKeyArgument(state: WalkState, helper: HelperDef, node: MathNode): 
   }
   const key = (node as unknown as { name: string }).name;
   if (state.columns.has(key)) {
-    refuse(state, `${helper.name}() takes a charted measure, a built-in derived measure or a score, not a user column ("${key}").`, findIdentifier(state.text, key));
+    refuse(
+      state,
+      `${helper.name}() takes a charted measure, a built-in derived measure or a score, not a user column ("${key}").`,
+      findIdentifier(state.text, key),
+    );
   }
   if (!state.helperKeys.has(key)) {
     refuse(state, `"${key}" is not a measure Tidemark knows.${suggest(key, state.helperKeys)}`, findIdentifier(state.text, key));
@@ -568,20 +670,35 @@ function walk(node: MathNode, state: WalkState, depth: number): void {
       }
       if (typeof v === 'boolean') return;
       if (typeof v === 'string') refuse(state, 'text in quotes is not allowed in formulas.', findFirst(state.text, /["']/));
-      if (v === undefined && state.text.includes('#')) refuse(state, 'comments (#) are not allowed in formulas.', findFirst(state.text, /#/));
+      if (v === undefined && state.text.includes('#'))
+        refuse(state, 'comments (#) are not allowed in formulas.', findFirst(state.text, /#/));
       refuse(state, `"${String(v)}" is not allowed in formulas; use numbers.`, findIdentifier(state.text, String(v)));
       break;
     }
     case 'SymbolNode': {
       const name = n['name'] as string;
       if (state.names.has(name)) return;
-      if (HELPER_BY_NAME.has(name)) refuse(state, `${name} is a helper; write it with parentheses, for example ${HELPER_BY_NAME.get(name)!.signature}.`, findIdentifier(state.text, name));
-      if (own(ALLOWED_FUNCTIONS, name)) refuse(state, `${name} is a function; write it with parentheses, for example ${name}(x).`, findIdentifier(state.text, name));
+      if (HELPER_BY_NAME.has(name))
+        refuse(
+          state,
+          `${name} is a helper; write it with parentheses, for example ${HELPER_BY_NAME.get(name)!.signature}.`,
+          findIdentifier(state.text, name),
+        );
+      if (own(ALLOWED_FUNCTIONS, name))
+        refuse(state, `${name} is a function; write it with parentheses, for example ${name}(x).`, findIdentifier(state.text, name));
       if (DANGEROUS_FUNCTIONS.has(name)) refuse(state, `"${name}" cannot be used in a formula.`, findIdentifier(state.text, name));
       if (isValuelessUnit(name)) {
-        refuse(state, `"${name}" is not a measure Tidemark knows, and units are not allowed in formulas: values are in the units shown in the column headers.${suggest(name, state.names)}`, findIdentifier(state.text, name));
+        refuse(
+          state,
+          `"${name}" is not a measure Tidemark knows, and units are not allowed in formulas: values are in the units shown in the column headers.${suggest(name, state.names)}`,
+          findIdentifier(state.text, name),
+        );
       }
-      refuse(state, `"${name}" is not a measure, fact or helper Tidemark knows.${suggest(name, state.names)}`, findIdentifier(state.text, name));
+      refuse(
+        state,
+        `"${name}" is not a measure, fact or helper Tidemark knows.${suggest(name, state.names)}`,
+        findIdentifier(state.text, name),
+      );
       break;
     }
     case 'ParenthesisNode':
@@ -592,17 +709,26 @@ function walk(node: MathNode, state: WalkState, depth: number): void {
       const op = n['op'] as string;
       const args = n['args'] as MathNode[];
       if (n['isPercentage'] === true) {
-        refuse(state, 'the per-cent sign after a value is not allowed: write / 100 (and use mod for a remainder).', findFirst(state.text, /%/));
+        refuse(
+          state,
+          'the per-cent sign after a value is not allowed: write / 100 (and use mod for a remainder).',
+          findFirst(state.text, /%/),
+        );
       }
       if (!OPERATORS.has(fn)) {
         const why = (own(REFUSED_OPERATORS, fn) ? REFUSED_OPERATORS[fn] : undefined) ?? `the operator "${op}" is not allowed`;
-        const pos = /^[a-z]+$/.test(op) ? findIdentifier(state.text, op) : findFirst(state.text, new RegExp(op.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')));
+        const pos = /^[a-z]+$/.test(op)
+          ? findIdentifier(state.text, op)
+          : findFirst(state.text, new RegExp(op.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')));
         refuse(state, `${why}.`, pos);
       }
       if (fn === 'nullish') {
         const left = args[0]!;
-        const leftOk = left.type === 'SymbolNode' || (left.type === 'FunctionNode' && HELPER_BY_NAME.has(((left as unknown as { fn: { name?: string } }).fn.name) ?? ''));
-        if (!leftOk) refuse(state, 'the left side of ?? must be a name or a helper call, for example uo_ml ?? 0.', findFirst(state.text, /\?\?/));
+        const leftOk =
+          left.type === 'SymbolNode' ||
+          (left.type === 'FunctionNode' && HELPER_BY_NAME.has((left as unknown as { fn: { name?: string } }).fn.name ?? ''));
+        if (!leftOk)
+          refuse(state, 'the left side of ?? must be a name or a helper call, for example uo_ml ?? 0.', findFirst(state.text, /\?\?/));
       }
       for (const a of args) walk(a, state, depth + 1);
       return;
@@ -624,13 +750,18 @@ function walk(node: MathNode, state: WalkState, depth: number): void {
       const fnNode = n['fn'] as MathNode;
       const args = n['args'] as MathNode[];
       if (fnNode.type !== 'SymbolNode') {
-        refuse(state, 'only named functions can be called (no property access such as a.b or a[1]).', findFirst(state.text, /\.(?=[A-Za-z_$])|\[|\?\./));
+        refuse(
+          state,
+          'only named functions can be called (no property access such as a.b or a[1]).',
+          findFirst(state.text, /\.(?=[A-Za-z_$])|\[|\?\./),
+        );
       }
       const name = (fnNode as unknown as { name: string }).name;
       const helper = HELPER_BY_NAME.get(name);
       if (helper) {
         if (helper.takesKey) {
-          if (args.length !== 1) refuse(state, `${name}() takes exactly one key, for example ${helper.signature}.`, findIdentifier(state.text, name));
+          if (args.length !== 1)
+            refuse(state, `${name}() takes exactly one key, for example ${helper.signature}.`, findIdentifier(state.text, name));
           checkKeyArgument(state, helper, args[0]!);
           state.nodes += 2;
         } else if (args.length !== 0) {
@@ -642,10 +773,18 @@ function walk(node: MathNode, state: WalkState, depth: number): void {
       if (!arity) {
         const pos = findIdentifier(state.text, name);
         if (DANGEROUS_FUNCTIONS.has(name)) {
-          refuse(state, `"${name}" cannot be used in a formula: it could change or bypass the calculator itself. Functions you can use: ${Object.keys(ALLOWED_FUNCTIONS).join(', ')}, and the helpers ${HELPERS.map((h) => h.name).join(', ')}.`, pos);
+          refuse(
+            state,
+            `"${name}" cannot be used in a formula: it could change or bypass the calculator itself. Functions you can use: ${Object.keys(ALLOWED_FUNCTIONS).join(', ')}, and the helpers ${HELPERS.map((h) => h.name).join(', ')}.`,
+            pos,
+          );
         }
         if (state.names.has(name)) refuse(state, `"${name}" is a value, not a function; to multiply, write ${name} * (...).`, pos);
-        refuse(state, `"${name}" is not a function you can use. Functions: ${Object.keys(ALLOWED_FUNCTIONS).join(', ')}; helpers: ${HELPERS.map((h) => h.name).join(', ')}.${suggest(name, [...Object.keys(ALLOWED_FUNCTIONS), ...HELPER_BY_NAME.keys()])}`, pos);
+        refuse(
+          state,
+          `"${name}" is not a function you can use. Functions: ${Object.keys(ALLOWED_FUNCTIONS).join(', ')}; helpers: ${HELPERS.map((h) => h.name).join(', ')}.${suggest(name, [...Object.keys(ALLOWED_FUNCTIONS), ...HELPER_BY_NAME.keys()])}`,
+          pos,
+        );
       }
       const [lo, hi] = arity;
       if (args.length < lo || args.length > hi) {
@@ -696,7 +835,8 @@ function checkEverythingRead(text: string, tree: MathNode): void {
     else if (node.type === 'ConstantNode') read.add(String(n['value']));
   });
   for (const t of identifiers(text)) {
-    if (!read.has(t.text)) throw new Refusal(`${at(t.pos)}"${t.text}" was not read as part of the formula; is something out of place before it?`, t.pos);
+    if (!read.has(t.text))
+      throw new Refusal(`${at(t.pos)}"${t.text}" was not read as part of the formula; is something out of place before it?`, t.pos);
   }
 }
 
@@ -722,7 +862,8 @@ export function compileFormula(text: string, options: CompileOptions = {}): Comp
   try {
     return compileOrThrow(text, options);
   } catch (e) {
-    if (e instanceof Refusal) return e.position === undefined ? { ok: false, error: e.message } : { ok: false, error: e.message, position: e.position };
+    if (e instanceof Refusal)
+      return e.position === undefined ? { ok: false, error: e.message } : { ok: false, error: e.message, position: e.position };
     return { ok: false, error: `This cannot be read as a formula (${e instanceof Error ? e.message : String(e)}).` };
   }
 }
@@ -730,7 +871,11 @@ export function compileFormula(text: string, options: CompileOptions = {}): Comp
 function compileOrThrow(text: string, options: CompileOptions): CompileResult {
   if (typeof text !== 'string') return { ok: false, error: 'A formula must be text.' };
   if (text.length > MAX_FORMULA_LENGTH) {
-    return { ok: false, error: `The formula is ${text.length} characters long; the limit is ${MAX_FORMULA_LENGTH}.`, position: MAX_FORMULA_LENGTH + 1 };
+    return {
+      ok: false,
+      error: `The formula is ${text.length} characters long; the limit is ${MAX_FORMULA_LENGTH}.`,
+      position: MAX_FORMULA_LENGTH + 1,
+    };
   }
   if (text.trim() === '') return { ok: false, error: 'The formula is empty.' };
   const { keys, helperKeys } = known();
@@ -751,7 +896,9 @@ function compileOrThrow(text: string, options: CompileOptions): CompileResult {
     const position = typeof char === 'number' ? Math.min(Math.max(1, char), text.length + 1) : undefined;
     const msg = e instanceof Error ? e.message : String(e);
     const plain = plainSyntaxMessage(msg);
-    return position === undefined ? { ok: false, error: `${plain[0]!.toUpperCase()}${plain.slice(1)}.` } : { ok: false, error: `${at(position)}${plain}.`, position };
+    return position === undefined
+      ? { ok: false, error: `${plain[0]!.toUpperCase()}${plain.slice(1)}.` }
+      : { ok: false, error: `${at(position)}${plain}.`, position };
   }
   // Count the parts first (a long chain a + b + c... is deep but harmless up to the part limit).
   let count = 0;
@@ -766,7 +913,8 @@ function compileOrThrow(text: string, options: CompileOptions): CompileResult {
   checkEverythingRead(text, tree);
   // Quotes that survived the walk were dropped by the parser: refuse them too.
   const quote = findFirst(text, /["'`]/);
-  if (quote !== undefined) return { ok: false, error: `${at(quote)}text in quotes (and the transpose mark ') is not allowed in formulas.`, position: quote };
+  if (quote !== undefined)
+    return { ok: false, error: `${at(quote)}text in quotes (and the transpose mark ') is not allowed in formulas.`, position: quote };
 
   // Rename every reference to a private symbol; rewrite helpers and `x ?? y`.
   const table = new Map<string, { ref: Ref; presence: boolean }>();
@@ -804,7 +952,8 @@ function compileOrThrow(text: string, options: CompileOptions): CompileResult {
       if (path === 'fn') return node;
       if (node.type === 'OperatorNode' && (node as unknown as { fn: string }).fn === 'nullish') {
         const [left, right] = (node as unknown as { args: MathNode[] }).args as [MathNode, MathNode];
-        const ref = left.type === 'FunctionNode' && (left as unknown as { fn: { name?: string } }).fn.name === 'has' ? undefined : refOf(left);
+        const ref =
+          left.type === 'FunctionNode' && (left as unknown as { fn: { name?: string } }).fn.name === 'has' ? undefined : refOf(left);
         if (!ref) return node;
         return new ConditionalNodeCtor(new SymbolNodeCtor(addRef(ref, true)), new SymbolNodeCtor(addRef(ref, false)), rewrite(right));
       }
@@ -863,7 +1012,8 @@ function compileOrThrow(text: string, options: CompileOptions): CompileResult {
       }
       if (typeof value === 'boolean') return { ok: true, value };
       if (typeof value === 'number') {
-        if (Number.isNaN(value)) return { ok: false, error: 'the result is not a number (for example the square root or logarithm of a negative number)' };
+        if (Number.isNaN(value))
+          return { ok: false, error: 'the result is not a number (for example the square root or logarithm of a negative number)' };
         if (!Number.isFinite(value)) return { ok: false, error: 'the result is infinite (division by zero, or a number too large)' };
         return { ok: true, value: value === 0 ? 0 : value };
       }

@@ -149,4 +149,3 @@ export const Worksheet = z.strictObject({
   demo: z.boolean().optional(),
 });
 export type Worksheet = z.infer<typeof Worksheet>;
-

@@ -24,4 +24,3 @@ export function fhirProblems(resource: object): FhirMessage[] {
       m.severity === 'error' || m.severity === 'fatal' || (m.severity === 'warning' && !/not found in value set/.test(m.message ?? '')),
   );
 }
-

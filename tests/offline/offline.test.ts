@@ -16,7 +16,14 @@ import { build } from '../../scripts/build.mjs';
 import { findChrome } from '../../scripts/find-chrome.mjs';
 import { serveDist } from '../../scripts/serve.mjs';
 
-const CHROME_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
+const CHROME_ARGS = [
+  '--no-sandbox',
+  '--disable-gpu',
+  '--disable-dev-shm-usage',
+  '--disable-background-networking',
+  '--disable-component-update',
+  '--disable-sync',
+];
 
 let dir = '';
 let server: Server | undefined;

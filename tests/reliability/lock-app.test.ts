@@ -45,7 +45,10 @@ function dump(): Promise<string> {
       }
       tx.oncomplete = () => {
         db.close();
-        const bytes = (v: ArrayBuffer | Uint8Array) => Array.from(new Uint8Array(v instanceof ArrayBuffer ? v : v.buffer)).map((b) => String.fromCharCode(b)).join('');
+        const bytes = (v: ArrayBuffer | Uint8Array) =>
+          Array.from(new Uint8Array(v instanceof ArrayBuffer ? v : v.buffer))
+            .map((b) => String.fromCharCode(b))
+            .join('');
         resolve(JSON.stringify(out, (_k, v: unknown) => (v instanceof ArrayBuffer || v instanceof Uint8Array ? bytes(v) : v)));
       };
     };
@@ -53,7 +56,11 @@ function dump(): Promise<string> {
 }
 
 const lockScreenShown = (page: Page) =>
-  page.waitForFunction(() => document.querySelector('tm-lock[mode="unlock"]')?.shadowRoot?.textContent?.includes('This notebook is locked'), null, { timeout: 30_000 });
+  page.waitForFunction(
+    () => document.querySelector('tm-lock[mode="unlock"]')?.shadowRoot?.textContent?.includes('This notebook is locked'),
+    null,
+    { timeout: 30_000 },
+  );
 
 async function unlockWith(page: Page, pass: string): Promise<void> {
   await page.locator('tm-lock[mode="unlock"] #pass').fill(pass);
@@ -80,7 +87,9 @@ describe('the notebook lock in the app', () => {
     await page.locator('tm-lock #idle').selectOption('2');
     const started = Date.now();
     await page.getByRole('button', { name: 'Switch the lock on' }).click();
-    await page.waitForFunction(() => document.querySelector('tm-lock')?.shadowRoot?.textContent?.includes('The lock is on'), null, { timeout: 30_000 });
+    await page.waitForFunction(() => document.querySelector('tm-lock')?.shadowRoot?.textContent?.includes('The lock is on'), null, {
+      timeout: 30_000,
+    });
     figures['switchOnMs'] = Date.now() - started;
     const sealed = await page.evaluate(dump);
     for (const t of DEMO_TEXTS) expect(sealed, `"${t}" readable at rest`).not.toContain(t);
@@ -109,7 +118,9 @@ describe('the notebook lock in the app', () => {
     expect(await page.evaluate(focusCell, { rowId: row.id, key: 'note' })).toBe(true);
     await page.keyboard.type('family updated at bedside');
     await page.keyboard.press('Enter');
-    await page.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'));
+    await page.waitForFunction(() =>
+      document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'),
+    );
     const afterEdit = await page.evaluate(dump);
     expect(afterEdit).not.toContain('family updated at bedside');
     expect(afterEdit).not.toBe(sealed);
@@ -119,9 +130,9 @@ describe('the notebook lock in the app', () => {
     await lockScreenShown(page);
     await unlockWith(page, PASS);
     await waitForApp(page);
-    expect(((await page.evaluate(shownWorksheet)).rows as { id: string; cells: Record<string, { value: unknown }> }[])[0]!.cells['note']?.value).toBe(
-      'family updated at bedside',
-    );
+    expect(
+      ((await page.evaluate(shownWorksheet)).rows as { id: string; cells: Record<string, { value: unknown }> }[])[0]!.cells['note']?.value,
+    ).toBe('family updated at bedside');
     // Use keeps it open: activity every minute for five minutes (no lock, so no reload either).
     let navigations = 0;
     page.on('framenavigated', (f) => {
@@ -146,11 +157,15 @@ describe('the notebook lock in the app', () => {
     await page.getByRole('button', { name: 'Switch the lock off…' }).click();
     await page.locator('tm-lock #off-pass').fill('not it at all');
     await page.getByRole('button', { name: 'Switch the lock off', exact: true }).click();
-    await page.waitForFunction((m) => document.querySelector('tm-lock')?.shadowRoot?.textContent?.includes(m), WRONG_PASSPHRASE_MESSAGE, { timeout: 30_000 });
+    await page.waitForFunction((m) => document.querySelector('tm-lock')?.shadowRoot?.textContent?.includes(m), WRONG_PASSPHRASE_MESSAGE, {
+      timeout: 30_000,
+    });
     expect(await page.evaluate(dump)).not.toContain('family updated at bedside');
     await page.locator('tm-lock #off-pass').fill(PASS);
     await page.getByRole('button', { name: 'Switch the lock off', exact: true }).click();
-    await page.waitForFunction(() => document.querySelector('tm-lock')?.shadowRoot?.textContent?.includes('The lock is off'), null, { timeout: 30_000 });
+    await page.waitForFunction(() => document.querySelector('tm-lock')?.shadowRoot?.textContent?.includes('The lock is off'), null, {
+      timeout: 30_000,
+    });
     const clear = await page.evaluate(dump);
     for (const t of [...DEMO_TEXTS, 'family updated at bedside']) expect(clear).toContain(t);
     await page.reload({ waitUntil: 'load' });

@@ -99,36 +99,49 @@ describe('a write that fails', () => {
       await page.keyboard.type('61');
       const typedAt = Date.now();
       await page.keyboard.press('Enter');
-      await page.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('.banner.failed[role="alert"]'), null, { timeout: 5_000 });
+      await page.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('.banner.failed[role="alert"]'), null, {
+        timeout: 5_000,
+      });
       const toldAfterMs = Date.now() - typedAt;
       const messages = await page.evaluate(appMessages);
       expect(messages.save).toBe('✕ Not saved');
       const banner = messages.banners.find((b) => b.startsWith('Not saved.'))!;
-      expect(banner).toMatch(failure === 'QuotaExceededError' ? /Device storage is full: this change was not saved\./ : /The change was not saved \(UnknownError/);
+      expect(banner).toMatch(
+        failure === 'QuotaExceededError'
+          ? /Device storage is full: this change was not saved\./
+          : /The change was not saved \(UnknownError/,
+      );
       expect(banner).toMatch(/Your entries are still on screen, marked “not saved”\. Export a backup now/);
       // The value is on screen, marked.
-      const cell = await page.evaluate(
-        (id) => {
-          const grid = document.querySelector('tm-app')!.shadowRoot!.querySelector('tm-grid') as unknown as HTMLElement & { pending: ReadonlyMap<string, string> };
-          const el = grid.shadowRoot!.querySelector(`[data-row="${id}"][data-col="map"]`);
-          return { text: el?.textContent?.replace(/\s+/g, ' ').trim(), pending: grid.pending.get(`${id}:map`) };
-        },
-        row.id,
-      );
+      const cell = await page.evaluate((id) => {
+        const grid = document.querySelector('tm-app')!.shadowRoot!.querySelector('tm-grid') as unknown as HTMLElement & {
+          pending: ReadonlyMap<string, string>;
+        };
+        const el = grid.shadowRoot!.querySelector(`[data-row="${id}"][data-col="map"]`);
+        return { text: el?.textContent?.replace(/\s+/g, ' ').trim(), pending: grid.pending.get(`${id}:map`) };
+      }, row.id);
       expect(cell.pending).toBe('failed');
       expect(cell.text).toMatch(/^61\b.*not saved/);
       // A second entry while storage is failing waits on screen too.
       expect(await page.evaluate(focusCell, { rowId: row.id, key: 'hr' })).toBe(true);
       await page.keyboard.type('131');
       await page.keyboard.press('Enter');
-      await page.waitForFunction((id) => (document.querySelector('tm-app')!.shadowRoot!.querySelector('tm-grid') as unknown as { pending: ReadonlyMap<string, string> }).pending.get(`${id}:hr`) === 'failed', row.id);
+      await page.waitForFunction(
+        (id) =>
+          (
+            document.querySelector('tm-app')!.shadowRoot!.querySelector('tm-grid') as unknown as { pending: ReadonlyMap<string, string> }
+          ).pending.get(`${id}:hr`) === 'failed',
+        row.id,
+      );
       // The export offered holds both unsaved entries.
       await page.getByRole('button', { name: 'Export now' }).click();
       const download = page.waitForEvent('download');
       await page.getByRole('button', { name: 'Backup this worksheet' }).click();
       const file = `${app.dir}/unsaved-${failure}.json`;
       await (await download).saveAs(file);
-      const backup = JSON.parse(readFileSync(file, 'utf8')) as { worksheets: { rows: { id: string; cells: Record<string, { value: unknown }> }[] }[] };
+      const backup = JSON.parse(readFileSync(file, 'utf8')) as {
+        worksheets: { rows: { id: string; cells: Record<string, { value: unknown }> }[] }[];
+      };
       const exported = backup.worksheets[0]!.rows.find((r) => r.id === row.id)!;
       expect(exported.cells['map']?.value).toBe(61);
       expect(exported.cells['hr']?.value).toBe(131);
@@ -138,7 +151,11 @@ describe('a write that fails', () => {
       // The cause goes away; "Try saving again" stores both, in order.
       await page.evaluate(() => ((window as unknown as { __fail?: string }).__fail = undefined));
       await page.getByRole('button', { name: 'Try saving again' }).click();
-      await page.waitForFunction(() => document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'), null, { timeout: 10_000 });
+      await page.waitForFunction(
+        () => document.querySelector('tm-app')?.shadowRoot?.querySelector('.save')?.textContent?.includes('All changes saved'),
+        null,
+        { timeout: 10_000 },
+      );
       await page.reload({ waitUntil: 'load' });
       await waitForApp(page);
       const after = await page.evaluate(readStored);

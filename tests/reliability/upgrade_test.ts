@@ -63,7 +63,9 @@ async function writeFixture(name: string, fx: Fixture): Promise<void> {
 /** JSON with sorted keys. */
 function canonical(value: unknown): string {
   return JSON.stringify(value, (_k, v: unknown) =>
-    v !== null && typeof v === 'object' && !Array.isArray(v) ? Object.fromEntries(Object.entries(v as object).sort(([a], [b]) => (a < b ? -1 : 1))) : v,
+    v !== null && typeof v === 'object' && !Array.isArray(v)
+      ? Object.fromEntries(Object.entries(v as object).sort(([a], [b]) => (a < b ? -1 : 1)))
+      : v,
   );
 }
 
@@ -94,7 +96,10 @@ describe('schema upgrades in real IndexedDB', () => {
       for (const record of readable) {
         const id = record['id'] as string;
         const { logCount, ...rest } = record;
-        const log = fx.stores.log.filter((e) => e.worksheetId === id).sort((a, b) => a.seq - b.seq).map((e) => e.entry);
+        const log = fx.stores.log
+          .filter((e) => e.worksheetId === id)
+          .sort((a, b) => a.seq - b.seq)
+          .map((e) => e.entry);
         expect(log.length).to.equal(logCount);
         const got = await store.get(id);
         expect(canonical(got)).to.equal(canonical({ ...rest, log }));
@@ -161,7 +166,12 @@ describe('schema upgrades in real IndexedDB', () => {
     const original = IDBDatabase.prototype.transaction;
     IDBDatabase.prototype.transaction = function (this: IDBDatabase, ...args: Parameters<IDBDatabase['transaction']>) {
       const tx = original.apply(this, args);
-      if (tx.mode === 'readwrite') seen.push({ stores: [...tx.objectStoreNames], mode: tx.mode, durability: (tx as IDBTransaction & { durability: string }).durability });
+      if (tx.mode === 'readwrite')
+        seen.push({
+          stores: [...tx.objectStoreNames],
+          mode: tx.mode,
+          durability: (tx as IDBTransaction & { durability: string }).durability,
+        });
       return tx;
     };
     let store: Store;

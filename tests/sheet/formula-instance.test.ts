@@ -35,7 +35,13 @@ describe('restricted mathjs instance', () => {
     expect(run('round(hr / 4) + round(-hr / 4)', { hr: 10 })).toEqual({ ok: true, value: 0 });
     expect(run('round(hr / 4)', { hr: 10 })).toEqual({ ok: true, value: 3 });
     expect(run('log(hr, 2)', { hr: 8 })).toEqual({ ok: true, value: 3 });
-    expect(run('min(map, sbp) + max(1, 2) + abs(-1) + floor(1.7) + ceil(1.2) + sqrt(16) + exp(0) + pow(2, 3) + hr mod 4', { map: 60, sbp: 90, hr: 10 })).toEqual({
+    expect(
+      run('min(map, sbp) + max(1, 2) + abs(-1) + floor(1.7) + ceil(1.2) + sqrt(16) + exp(0) + pow(2, 3) + hr mod 4', {
+        map: 60,
+        sbp: 90,
+        hr: 10,
+      }),
+    ).toEqual({
       ok: true,
       value: 60 + 2 + 1 + 1 + 2 + 4 + 1 + 8 + 2,
     });
