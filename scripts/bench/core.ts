@@ -16,7 +16,6 @@ import { longWorksheet, longWorksheetNow } from './long-worksheet.js';
 import { editPlan, rowIdOf } from './plan.js';
 
 export { editPlan } from './plan.js';
-export { longWorksheet, longWorksheetNow } from './long-worksheet.js';
 
 export interface CoreSizeResult {
   rows: number;

@@ -53,8 +53,6 @@ import type { ColumnOption } from './tm-column-chooser.js';
 import type { CellInputEdit } from './worksheet.js';
 import { sortRows } from './worksheet.js';
 
-export type { TmColumnsDetail } from './tm-column-chooser.js';
-
 /** Save state of a cell, keyed `${rowId}:${key}` in {@link TmGrid.pending}. */
 export type PendingState = 'saving' | 'failed';
 
