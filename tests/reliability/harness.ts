@@ -6,7 +6,8 @@
 // browser (SIGKILL, no shutdown) and start it again on the same profile, the harshest crash a
 // workstation sees short of a power cut. Never downloads a browser; nothing leaves 127.0.0.1.
 import { spawn, type ChildProcess } from 'node:child_process';
-import { mkdtempSync, rmSync, writeFileSync, mkdirSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { existsSync, mkdtempSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync, mkdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -49,17 +50,59 @@ export interface ServedApp {
   /** The CSP the build puts in its meta tag and the server sends as a header. */
   csp: string;
   dir: string;
+  /** A temporary folder for the test's own files (downloads), outside the served folder. */
+  scratch: string;
   /** Every request this server received (method and path), as the server saw them. */
   requests: string[];
   close(): Promise<void>;
 }
 
-/** Builds the production app into a fresh temporary folder and serves it on 127.0.0.1. */
+/** Every file the production build reads from the repository, for the build cache key. */
+function buildInputs(): string[] {
+  const walk = (dir: string): string[] =>
+    readdirSync(dir).flatMap((name) => {
+      const path = join(dir, name);
+      return statSync(path).isDirectory() ? walk(path) : [path];
+    });
+  return [...walk(join(root, 'src')), join(root, 'index.html'), join(root, 'scripts/build.mjs'), join(root, 'scripts/zod-locales-en.js'), join(root, 'package-lock.json')]
+    .filter((p) => existsSync(p))
+    .sort();
+}
+
+/**
+ * Builds the production app with scripts/build.mjs, once per source state: the test files of one
+ * run share the build (a folder in the temporary directory named after a hash of the sources).
+ */
+async function cachedBuild(): Promise<string> {
+  const hash = createHash('sha256');
+  for (const path of buildInputs()) hash.update(path).update(readFileSync(path));
+  const key = hash.digest('hex').slice(0, 16);
+  const dir = join(tmpdir(), `tidemark-rel-build-${key}`);
+  if (existsSync(join(dir, 'index.html'))) return dir;
+  const { build } = await load<BuildModule>('scripts/build.mjs');
+  const fresh = mkdtempSync(join(tmpdir(), 'tidemark-rel-building-'));
+  await build({ quiet: true, outDir: fresh });
+  try {
+    renameSync(fresh, dir);
+  } catch {
+    // Another test file built the same sources at the same time: use its folder.
+    rmSync(fresh, { recursive: true, force: true });
+  }
+  // Builds of earlier source states are no longer needed.
+  for (const name of readdirSync(tmpdir())) {
+    if (!name.startsWith('tidemark-rel-build-') || name.endsWith(key)) continue;
+    const old = join(tmpdir(), name);
+    if (Date.now() - statSync(old).mtimeMs > 3_600_000) rmSync(old, { recursive: true, force: true });
+  }
+  return dir;
+}
+
+/** Builds (or reuses the build of) the production app and serves it on 127.0.0.1. */
 export async function buildAndServe(): Promise<ServedApp> {
-  const { build, CSP } = await load<BuildModule>('scripts/build.mjs');
+  const { CSP } = await load<BuildModule>('scripts/build.mjs');
   const { serveDist } = await load<ServeModule>('scripts/serve.mjs');
-  const dir = mkdtempSync(join(tmpdir(), 'tidemark-rel-dist-'));
-  await build({ quiet: true, outDir: dir });
+  const dir = await cachedBuild();
+  const scratch = mkdtempSync(join(tmpdir(), 'tidemark-rel-scratch-'));
   const { server, port } = await serveDist({ dir: `${dir}/` });
   const origin = `http://127.0.0.1:${port}`;
   const requests: string[] = [];
@@ -69,13 +112,14 @@ export async function buildAndServe(): Promise<ServedApp> {
     origin,
     csp: CSP,
     dir,
+    scratch,
     requests,
     close: () =>
       new Promise<void>((resolve) => {
         server.close(() => resolve());
         // Browsers keep idle keep-alive connections open; close() alone would wait for them.
         server.closeAllConnections();
-        rmSync(dir, { recursive: true, force: true });
+        rmSync(scratch, { recursive: true, force: true });
       }),
   };
 }
@@ -95,6 +139,7 @@ export async function serveAgain(built: ServedApp): Promise<ServedApp> {
     origin,
     csp: built.csp,
     dir: built.dir,
+    scratch: built.scratch,
     requests,
     close: () =>
       new Promise<void>((r) => {

@@ -190,7 +190,7 @@ describe('a whole scripted session', () => {
         const download = page.waitForEvent('download');
         await page.getByRole('button', { name }).click();
         const d = await download;
-        const path = `${app.dir}/${d.suggestedFilename()}`;
+        const path = `${app.scratch}/${d.suggestedFilename()}`;
         await d.saveAs(path);
         if (name === 'Backup whole notebook') {
           await page.locator('tm-exports input[type="file"]').setInputFiles(path);

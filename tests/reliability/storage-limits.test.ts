@@ -137,7 +137,7 @@ describe('a write that fails', () => {
       await page.getByRole('button', { name: 'Export now' }).click();
       const download = page.waitForEvent('download');
       await page.getByRole('button', { name: 'Backup this worksheet' }).click();
-      const file = `${app.dir}/unsaved-${failure}.json`;
+      const file = `${app.scratch}/unsaved-${failure}.json`;
       await (await download).saveAs(file);
       const backup = JSON.parse(readFileSync(file, 'utf8')) as {
         worksheets: { rows: { id: string; cells: Record<string, { value: unknown }> }[] }[];
