@@ -75,7 +75,7 @@ function verify(pre: StoredState, post: StoredState, sent: readonly SentEdit[]):
   post.log.forEach((e, i) => {
     if (e.seq !== i || e.worksheetId !== post.id) problems.push(`log entry ${i} out of sequence (seq ${e.seq})`);
   });
-  if (post.summaryRev !== post.record.rev) problems.push(`summary rev ${post.summaryRev} but worksheet rev ${post.record.rev}`);
+  if (post.summaryRev !== post.record.rev) problems.push(`summary rev ${String(post.summaryRev)} but worksheet rev ${post.record.rev}`);
   // History before this session is untouched.
   if (JSON.stringify(post.log.slice(0, pre.log.length)) !== JSON.stringify(pre.log)) problems.push('earlier log entries changed');
   const k = post.log.length - pre.log.length;

@@ -79,9 +79,9 @@ async function cachedBuild(): Promise<string> {
   const key = hash.digest('hex').slice(0, 16);
   const dir = join(tmpdir(), `tidemark-rel-build-${key}`);
   if (existsSync(join(dir, 'index.html'))) return dir;
-  const { build } = await load<BuildModule>('scripts/build.mjs');
+  const builder = await load<BuildModule>('scripts/build.mjs');
   const fresh = mkdtempSync(join(tmpdir(), 'tidemark-rel-building-'));
-  await build({ quiet: true, outDir: fresh });
+  await builder.build({ quiet: true, outDir: fresh });
   try {
     renameSync(fresh, dir);
   } catch {
@@ -100,13 +100,13 @@ async function cachedBuild(): Promise<string> {
 /** Builds (or reuses the build of) the production app and serves it on 127.0.0.1. */
 export async function buildAndServe(): Promise<ServedApp> {
   const { CSP } = await load<BuildModule>('scripts/build.mjs');
-  const { serveDist } = await load<ServeModule>('scripts/serve.mjs');
+  const serve = await load<ServeModule>('scripts/serve.mjs');
   const dir = await cachedBuild();
   const scratch = mkdtempSync(join(tmpdir(), 'tidemark-rel-scratch-'));
-  const { server, port } = await serveDist({ dir: `${dir}/` });
+  const { server, port } = await serve.serveDist({ dir: `${dir}/` });
   const origin = `http://127.0.0.1:${port}`;
   const requests: string[] = [];
-  server.on('request', (req) => requests.push(`${req.method} ${req.url}`));
+  server.on('request', (req) => requests.push(`${req.method ?? ''} ${req.url ?? ''}`));
   return {
     url: `${origin}/`,
     origin,
@@ -129,11 +129,11 @@ export async function buildAndServe(): Promise<ServedApp> {
  * notebook (storage is per origin) without building again.
  */
 export async function serveAgain(built: ServedApp): Promise<ServedApp> {
-  const { serveDist } = await load<ServeModule>('scripts/serve.mjs');
-  const { server, port } = await serveDist({ dir: `${built.dir}/` });
+  const serve = await load<ServeModule>('scripts/serve.mjs');
+  const { server, port } = await serve.serveDist({ dir: `${built.dir}/` });
   const origin = `http://127.0.0.1:${port}`;
   const requests: string[] = [];
-  server.on('request', (req) => requests.push(`${req.method} ${req.url}`));
+  server.on('request', (req) => requests.push(`${req.method ?? ''} ${req.url ?? ''}`));
   return {
     url: `${origin}/`,
     origin,
@@ -167,17 +167,18 @@ export class Chromium {
   }
 
   private async launch(): Promise<void> {
-    const { findChrome } = await load<FindChromeModule>('scripts/find-chrome.mjs');
-    const exe = findChrome();
+    const finder = await load<FindChromeModule>('scripts/find-chrome.mjs');
+    const exe = finder.findChrome();
     if (!exe) throw new Error('No Chrome or Chromium found (set CHROME_PATH).');
     const proc = spawn(exe, [...CHROME_ARGS, '--headless', '--remote-debugging-port=0', `--user-data-dir=${this.profile}`, 'about:blank'], {
       stdio: ['ignore', 'ignore', 'pipe'],
     });
     this.proc = proc;
+    const stderr = proc.stderr;
     const endpoint = await new Promise<string>((resolve, reject) => {
       let err = '';
       const timer = setTimeout(() => reject(new Error(`Chromium did not start: ${err.slice(-500)}`)), 60_000);
-      proc.stderr!.on('data', (chunk: Buffer) => {
+      stderr.on('data', (chunk: Buffer) => {
         err += chunk.toString();
         const m = /DevTools listening on (ws:\/\/\S+)/.exec(err);
         if (m) {
@@ -187,11 +188,11 @@ export class Chromium {
       });
       proc.once('exit', (code) => {
         clearTimeout(timer);
-        reject(new Error(`Chromium exited (${code}) before it was ready: ${err.slice(-500)}`));
+        reject(new Error(`Chromium exited (${String(code)}) before it was ready: ${err.slice(-500)}`));
       });
     });
     // Keep reading stderr so the pipe never fills up and stalls the browser.
-    proc.stderr!.on('data', () => undefined);
+    stderr.on('data', () => undefined);
     this.browser = await chromium.connectOverCDP(endpoint, { timeout: 60_000 });
   }
 

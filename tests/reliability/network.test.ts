@@ -29,7 +29,7 @@ beforeAll(async () => {
   app = await buildAndServe();
   chrome = await Chromium.start();
   sink = createServer((req, res) => {
-    sinkHits.push(`${req.method} ${req.url}`);
+    sinkHits.push(`${req.method ?? ''} ${req.url ?? ''}`);
     res.writeHead(200, { 'Access-Control-Allow-Origin': '*' }).end('{}');
   });
   await new Promise<void>((r) => sink.listen(0, '127.0.0.1', () => r()));
@@ -228,7 +228,7 @@ describe('a whole scripted session', () => {
     const target = `http://127.0.0.1:${sinkPort}`;
     const attempts = await page.evaluate(async (t) => {
       const out: Record<string, string> = {};
-      const attempt = async (name: string, fn: () => Promise<unknown> | unknown) => {
+      const attempt = async (name: string, fn: () => unknown) => {
         try {
           await fn();
           out[name] = 'not refused';
@@ -253,7 +253,7 @@ describe('a whole scripted session', () => {
         'websocket',
         () =>
           new Promise((resolve, reject) => {
-            const ws = new WebSocket(`ws://127.0.0.1:${t.split(':')[2]}/ws`);
+            const ws = new WebSocket(`ws://127.0.0.1:${t.split(':')[2] ?? ''}/ws`);
             ws.onopen = resolve;
             ws.onerror = () => reject(new TypeError('websocket error'));
           }),
@@ -283,9 +283,11 @@ describe('a whole scripted session', () => {
           }),
       );
       await attempt('innerHTML', () => {
+        // eslint-disable-next-line no-restricted-syntax -- on purpose: Trusted Types must refuse it
         document.createElement('div').innerHTML = '<b>x</b>';
       });
       await attempt('eval', () => eval('1 + 1'));
+      // eslint-disable-next-line @typescript-eslint/no-implied-eval, @typescript-eslint/no-unsafe-call -- on purpose: the policy must refuse it
       await attempt('new Function', () => new Function('return 1')());
       return out;
     }, target);

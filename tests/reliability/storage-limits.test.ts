@@ -83,6 +83,7 @@ describe('a write that fails', () => {
       const page = await freshTab(() => {
         const w = window as unknown as { __fail?: string };
         for (const method of ['put', 'add'] as const) {
+          // eslint-disable-next-line @typescript-eslint/unbound-method -- called below with .apply on the real store
           const original = IDBObjectStore.prototype[method];
           IDBObjectStore.prototype[method] = function (this: IDBObjectStore, ...args: Parameters<IDBObjectStore['put']>) {
             // Only the worksheet writes fail (settings such as the last open worksheet still work).
