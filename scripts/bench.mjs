@@ -27,6 +27,7 @@ await esbuild.build({
   outfile: `${cache}/run.mjs`,
   logLevel: 'warning',
 });
-/** @type {{ runBench(tools: object): Promise<void> }} */
-const bench = await import(pathToFileURL(`${cache}/run.mjs`).href);
+/** @type {unknown} */
+const loaded = await import(pathToFileURL(`${cache}/run.mjs`).href);
+const bench = /** @type {{ runBench(tools: object): Promise<void> }} */ (loaded);
 await bench.runBench({ root, args: process.argv.slice(2), build, serveDist, findChrome });

@@ -509,7 +509,7 @@ export async function runBench(tools: BenchTools): Promise<void> {
 
     say('');
     say(
-      `Tidemark bench ${result.date.slice(0, 16)}Z — ${info.cores} cores (${info.cpu}), ${info.memoryGb} GB, Node ${info.node}, Chromium ${info.chromium}, load average ${info.loadAverageAtStart[0]} at start, ${info.loadAverageAtEnd[0]} at end`,
+      `Tidemark bench ${result.date.slice(0, 16)}Z — ${info.cores} cores (${info.cpu}), ${info.memoryGb} GB, Node ${info.node}, Chromium ${info.chromium}, load average ${String(info.loadAverageAtStart[0] ?? '?')} at start, ${String(info.loadAverageAtEnd[0] ?? '?')} at end`,
     );
     const cell = (text: string) => text.padStart(14);
     say(`${'Measure'.padEnd(46)}${cell('50 rows')}${cell('500 rows')}${cell('5,000 rows')}`);

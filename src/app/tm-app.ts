@@ -27,6 +27,8 @@ import type { Derivation } from '../sheet/derived.js';
 import { rederive } from '../sheet/rederive.js';
 import type { Worksheet } from '../sheet/model.js';
 import '../sheet/tm-grid.js';
+import type { TmGridEventDetails } from '../sheet/tm-grid.js';
+import type { TmColumnsDetail } from '../sheet/tm-column-chooser.js';
 import { formatClock, formatDuration, formatOffset } from '../sheet/time.js';
 import { createWorksheet, setFacts } from '../sheet/worksheet.js';
 import type { NotebookListing, Store } from '../storage/store.js';
@@ -54,6 +56,9 @@ const BASIS_WORDS: Record<string, string> = {
 };
 
 type Panel = 'none' | 'facts' | 'exports' | 'columns' | 'own-goals';
+
+/** An event from tm-grid, typed by its name. */
+type GridEvent<K extends keyof TmGridEventDetails> = CustomEvent<TmGridEventDetails[K]>;
 
 @customElement('tm-app')
 export class TmApp extends LitElement {
@@ -472,7 +477,7 @@ export class TmApp extends LitElement {
     if (!e.altKey || e.ctrlKey || e.metaKey) return;
     const k = e.key.toLowerCase();
     const focus = (sel: string) => {
-      const el = this.renderRoot.querySelector(sel) as HTMLElement | null;
+      const el = this.renderRoot.querySelector<HTMLElement>(sel);
       el?.focus();
       return el;
     };
@@ -490,8 +495,8 @@ export class TmApp extends LitElement {
     } else if (k === 'e') {
       this.panel = this.panel === 'exports' ? 'none' : 'exports';
     } else if (k === 's') {
-      const grid = focus('tm-grid');
-      (grid as (HTMLElement & { focusActiveCell?: () => void }) | null)?.focusActiveCell?.();
+      focus('tm-grid');
+      void this.renderRoot.querySelector('tm-grid')?.focusActiveCell();
     } else return;
     e.preventDefault();
   };
@@ -728,12 +733,12 @@ export class TmApp extends LitElement {
                   .highlightRows=${this.highlight}
                   .displayUnits=${this.unitMap}
                   .now=${this.now}
-                  @tm-edit=${(e: CustomEvent) => void this.session?.editCells(e.detail.edits)}
-                  @tm-paste=${(e: CustomEvent) => void this.session?.paste(e.detail.newRows, e.detail.edits)}
-                  @tm-add-row=${(e: CustomEvent) => void this.session?.addRow(e.detail.time, e.detail.offset).saved}
-                  @tm-row-time=${(e: CustomEvent) => void this.session?.setRowTime(e.detail.rowId, e.detail.time, e.detail.offset)}
-                  @tm-delete-row=${(e: CustomEvent) => void this.session?.deleteRow(e.detail.rowId)}
-                  @tm-columns=${(e: CustomEvent) => void this.session?.setColumns(e.detail.columns)}
+                  @tm-edit=${(e: GridEvent<'tm-edit'>) => void this.session?.editCells(e.detail.edits)}
+                  @tm-paste=${(e: GridEvent<'tm-paste'>) => void this.session?.paste(e.detail.newRows, e.detail.edits)}
+                  @tm-add-row=${(e: GridEvent<'tm-add-row'>) => void this.session?.addRow(e.detail.time, e.detail.offset).saved}
+                  @tm-row-time=${(e: GridEvent<'tm-row-time'>) => void this.session?.setRowTime(e.detail.rowId, e.detail.time, e.detail.offset)}
+                  @tm-delete-row=${(e: GridEvent<'tm-delete-row'>) => void this.session?.deleteRow(e.detail.rowId)}
+                  @tm-columns=${(e: CustomEvent<TmColumnsDetail>) => void this.session?.setColumns(e.detail.columns)}
                   @tm-undo=${() => void this.session?.undo()}
                   @tm-redo=${() => void this.session?.redo()}
                   @focusin=${(e: FocusEvent) => this.onGridFocus(e)}
@@ -795,7 +800,7 @@ export function flushUpdatesNow(root: Element): void {
       const inner = el.shadowRoot;
       if (inner) for (const child of inner.querySelectorAll<Pending>('*')) visit(child);
     };
-    visit(root as Pending);
+    visit(root);
     if (!ran) return;
   }
 }

@@ -264,7 +264,7 @@ export class TmGrid extends LitElement {
       out.push({ kind: 'row', row: this.rows[i]!, index: i });
       next = i + 1;
     }
-    if (next < n) out.push({ kind: 'gap', key: `gap-${gaps++}`, rows: n - next });
+    if (next < n) out.push({ kind: 'gap', key: `gap-${gaps}`, rows: n - next });
     return out;
   }
 
@@ -335,7 +335,7 @@ export class TmGrid extends LitElement {
       this.scrollToEnd = true;
     }
     // Commands keep rows sorted; sort only what is not (an O(n) check instead of a sort per edit).
-    this.rows = !ws ? [] : isSorted(ws.rows) ? (ws.rows as Row[]) : sortRows(ws.rows);
+    this.rows = !ws ? [] : isSorted(ws.rows) ? ws.rows : sortRows(ws.rows);
     if (!ws) this.cols = [];
     else if (!this.colsFrom || this.colsFrom[0] !== ws.columns || this.colsFrom[1] !== ws.derivedColumns) {
       this.cols = gridColumns(ws);
@@ -397,7 +397,7 @@ export class TmGrid extends LitElement {
   /** Rows in one visible page of the scroller, less one so the old edge row stays in view (APG). */
   private pageRows(): number {
     const scroller = this.scroller;
-    const rowEl = scroller?.querySelector('tbody tr[role="row"]') as HTMLElement | null;
+    const rowEl = scroller?.querySelector<HTMLElement>('tbody tr[role="row"]');
     const headEl = scroller?.querySelector('thead') as HTMLElement | null;
     if (!scroller || !rowEl || rowEl.offsetHeight === 0) return 10;
     return Math.max(1, Math.floor((scroller.clientHeight - (headEl?.offsetHeight ?? 0)) / rowEl.offsetHeight) - 1);
@@ -496,7 +496,7 @@ export class TmGrid extends LitElement {
   // --- Keyboard ------------------------------------------------------------------------------------
 
   /** Keys anywhere in the element: Alt+N adds a row; inside the table the grid keymap applies. */
-  private onKeydown(e: KeyboardEvent): void {
+  private readonly onKeydown = (e: KeyboardEvent): void => {
     if (e.defaultPrevented || e.isComposing) return;
     // Dialogs keep their own keys (Escape closes them, Tab stays inside).
     if (e.composedPath().some((n) => n instanceof HTMLDialogElement)) return;
@@ -516,7 +516,7 @@ export class TmGrid extends LitElement {
     if (!result.handled) return;
     e.preventDefault();
     void this.applyKey(result);
-  }
+  };
 
   private async applyKey(r: GridKeyResult): Promise<void> {
     switch (r.command.kind) {
@@ -652,12 +652,12 @@ export class TmGrid extends LitElement {
     return undefined;
   }
 
-  private onEditorFocusOut(e: FocusEvent): void {
+  private readonly onEditorFocusOut = (e: FocusEvent): void => {
     if (this.mode !== 'edit') return;
     const cell = (e.target as HTMLElement).closest('[data-col]');
     if (e.relatedTarget instanceof Node && cell?.contains(e.relatedTarget)) return;
     void this.commitEdit(null, false);
-  }
+  };
 
   private clearActive(): void {
     const pos = this.activePos();
@@ -685,19 +685,19 @@ export class TmGrid extends LitElement {
     return row < 0 || col < 0 ? null : { row, col };
   }
 
-  private onPointerDown(e: PointerEvent): void {
+  private readonly onPointerDown = (e: PointerEvent): void => {
     const el = this.cellOf(e);
     this.pressOnActive = Boolean(el && this.mode === 'navigate' && el.getAttribute('tabindex') === '0');
-  }
+  };
 
-  private onFocusIn(e: FocusEvent): void {
+  private readonly onFocusIn = (e: FocusEvent): void => {
     const el = this.cellOf(e);
     if (!el || el.classList.contains('editing') || this.mode === 'edit') return;
     const pos = this.posOfCell(el);
     if (pos) this.setActive(pos);
-  }
+  };
 
-  private onClick(e: MouseEvent): void {
+  private readonly onClick = (e: MouseEvent): void => {
     const el = this.cellOf(e);
     if (!el || this.mode === 'edit') return;
     const pos = this.posOfCell(el);
@@ -710,20 +710,20 @@ export class TmGrid extends LitElement {
       return;
     }
     void this.moveFocusTo(pos);
-  }
+  };
 
   // --- Clipboard -----------------------------------------------------------------------------------
 
-  private onCopy(e: ClipboardEvent): void {
+  private readonly onCopy = (e: ClipboardEvent): void => {
     if (this.mode === 'edit' || !e.clipboardData) return;
     const el = this.activeCellEl();
     if (!el) return;
     e.preventDefault();
     const value = el.querySelector('.v')?.textContent ?? '';
     e.clipboardData.setData('text/plain', value.trim());
-  }
+  };
 
-  private async onPaste(e: ClipboardEvent): Promise<void> {
+  private readonly onPaste = async (e: ClipboardEvent): Promise<void> => {
     if (this.mode === 'edit' || !this.worksheet) return;
     const text = e.clipboardData?.getData('text/plain') ?? '';
     e.preventDefault();
@@ -752,9 +752,9 @@ export class TmGrid extends LitElement {
     this.plan = result.plan;
     await this.updateComplete;
     if (!this.pasteDialog.open) this.pasteDialog.showModal();
-  }
+  };
 
-  private confirmPaste(): void {
+  private readonly confirmPaste = (): void => {
     const plan = this.plan;
     if (!plan) return;
     if (plan.accepted.length > 0) {
@@ -765,16 +765,16 @@ export class TmGrid extends LitElement {
     const refused = plan.refused.length;
     this.say(`Pasted ${stored} ${stored === 1 ? 'value' : 'values'}${refused > 0 ? `; ${refused} refused, not stored` : ''}.`, refused > 0);
     this.pasteDialog.close();
-  }
+  };
 
-  private onPasteDialogClose(): void {
+  private readonly onPasteDialogClose = (): void => {
     this.plan = null;
     void this.moveFocusTo(null);
-  }
+  };
 
   // --- Rows ------------------------------------------------------------------------------------------
 
-  private addRowNow(): void {
+  private readonly addRowNow = (): void => {
     const ws = this.worksheet;
     if (!ws) return;
     if (this.now === undefined) {
@@ -786,9 +786,9 @@ export class TmGrid extends LitElement {
     this.awaitingNewRow = true;
     this.emit('tm-add-row', { time, offset: ws.displayOffset });
     this.say(`Row added at ${formatClock(time, ws.displayOffset)}.`);
-  }
+  };
 
-  private onAddAt(e: SubmitEvent): void {
+  private readonly onAddAt = (e: SubmitEvent): void => {
     e.preventDefault();
     const ws = this.worksheet;
     if (!ws) return;
@@ -804,7 +804,7 @@ export class TmGrid extends LitElement {
     this.awaitingNewRow = true;
     this.emit('tm-add-row', { time: parsed.time, offset: parsed.offset });
     this.say(`Row added at ${formatDateTime(parsed.time, ws.displayOffset)}.`);
-  }
+  };
 
   private async askDelete(rowId: string | null): Promise<void> {
     if (!rowId) return;
@@ -813,16 +813,16 @@ export class TmGrid extends LitElement {
     if (!this.deleteDialog.open) this.deleteDialog.showModal();
   }
 
-  private confirmDelete(): void {
+  private readonly confirmDelete = (): void => {
     const rowId = this.deleteRowId;
     if (rowId) this.emit('tm-delete-row', { rowId });
     this.deleteDialog.close();
-  }
+  };
 
-  private onDeleteDialogClose(): void {
+  private readonly onDeleteDialogClose = (): void => {
     this.deleteRowId = null;
     void this.moveFocusTo(null);
-  }
+  };
 
   // --- Rendering ---------------------------------------------------------------------------------
 
@@ -1184,7 +1184,8 @@ function isSorted(rows: readonly Row[]): boolean {
 }
 
 /** Event names and their details, for `emit` and for listeners. */
-interface TmGridEventDetails {
+/** The detail of each event the grid fires, by event name. */
+export interface TmGridEventDetails {
   'tm-edit': TmEditDetail;
   'tm-paste': TmPasteDetail;
   'tm-add-row': TmAddRowDetail;
