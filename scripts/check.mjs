@@ -12,6 +12,13 @@ import { fileURLToPath } from 'node:url';
 const root = fileURLToPath(new URL('..', import.meta.url));
 
 /**
+ * JSON.parse, typed `unknown` so the caller states the shape it expects.
+ * @param {string} text
+ * @returns {unknown}
+ */
+const parseJson = (text) => JSON.parse(text);
+
+/**
  * Absolute path of a dependency's command-line entry, run with this same Node.
  * @param {string} pkg
  * @param {string} name
@@ -19,7 +26,7 @@ const root = fileURLToPath(new URL('..', import.meta.url));
 function binOf(pkg, name) {
   const packageDir = join(root, 'node_modules', pkg);
   const { bin } = /** @type {{ bin: string | Record<string, string> }} */ (
-    JSON.parse(readFileSync(join(packageDir, 'package.json'), 'utf8'))
+    parseJson(readFileSync(join(packageDir, 'package.json'), 'utf8'))
   );
   const entry = typeof bin === 'string' ? bin : bin[name];
   if (entry === undefined) throw new Error(`${pkg} has no "${name}" command`);

@@ -262,12 +262,12 @@ export interface Store {
 type DB = IDBPDatabase<TidemarkDB>;
 
 function errorName(err: unknown): string {
-  if (typeof err === 'object' && err !== null && 'name' in err) return String((err as { name: unknown }).name);
+  if (typeof err === 'object' && err !== null && 'name' in err) return String(err.name);
   return '';
 }
 
 function errorMessage(err: unknown): string {
-  if (typeof err === 'object' && err !== null && 'message' in err) return String((err as { message: unknown }).message);
+  if (typeof err === 'object' && err !== null && 'message' in err) return String(err.message);
   return String(err);
 }
 
@@ -595,7 +595,7 @@ class NotebookStore implements Store {
   private async pieces(ws: Worksheet, entries: readonly { seq: number; entry: Worksheet['log'][number] }[]): Promise<Pieces> {
     const record = toStoredWorksheet(ws) as Record<string, unknown>;
     const summary = summaryOf(ws) as Record<string, unknown>;
-    const plainEntries = entries.map((e) => ({ worksheetId: ws.id, seq: e.seq, entry: e.entry }) as Record<string, unknown>);
+    const plainEntries = entries.map((e) => ({ worksheetId: ws.id, seq: e.seq, entry: e.entry }));
     const codec = this.codec;
     if (!codec) return { record, summary, entries: plainEntries };
     const [r, s, es] = await Promise.all([
@@ -640,7 +640,7 @@ class NotebookStore implements Store {
   private readTx(stores: StoreName[]): ReadTx {
     this.assertOpen();
     try {
-      return this.db.transaction(stores, 'readonly') as ReadTx;
+      return this.db.transaction(stores, 'readonly');
     } catch (err) {
       throw new StoreError(
         this.closed || errorName(err) === 'InvalidStateError' ? 'closed' : 'failed',

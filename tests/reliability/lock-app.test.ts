@@ -33,14 +33,14 @@ afterAll(async () => {
 function dump(): Promise<string> {
   return new Promise((resolve, reject) => {
     const r = indexedDB.open('tidemark');
-    r.onerror = () => reject(r.error);
+    r.onerror = () => reject(r.error ?? new Error('IndexedDB open failed'));
     r.onsuccess = () => {
       const db = r.result;
       const names = [...db.objectStoreNames];
       const tx = db.transaction(names, 'readonly');
       const out: Record<string, unknown> = {};
       for (const n of names) {
-        const q = tx.objectStore(n).getAll();
+        const q: IDBRequest<unknown[]> = tx.objectStore(n).getAll();
         q.onsuccess = () => (out[n] = q.result);
       }
       tx.oncomplete = () => {

@@ -199,7 +199,7 @@ describe('a locked notebook', () => {
     expect(stale).toMatchObject({
       ok: false,
       reason: 'closed',
-      message: expect.stringMatching(/lock was switched on, off or changed in another tab/),
+      message: expect.stringMatching(/lock was switched on, off or changed in another tab/) as unknown,
     });
     const other = sampleWorksheet(makeCtx('other'), 'OTHER bed (fictional)');
     expect(await tabB.create(other)).toMatchObject({ ok: false, reason: 'closed' });
@@ -242,6 +242,7 @@ describe('a locked notebook', () => {
     const before = await rawDump();
     // A storage failure in the middle of the rewrite: the whole transaction aborts.
     let puts = 0;
+    // eslint-disable-next-line @typescript-eslint/unbound-method -- called below with .apply on the real store
     const original = IDBObjectStore.prototype.put;
     vi.spyOn(IDBObjectStore.prototype, 'put').mockImplementation(function (this: IDBObjectStore, ...args) {
       puts += 1;

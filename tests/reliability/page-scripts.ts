@@ -139,21 +139,26 @@ export async function readStored(): Promise<StoredState> {
   const db = await new Promise<IDBDatabase>((resolve, reject) => {
     const r = indexedDB.open('tidemark');
     r.onsuccess = () => resolve(r.result);
-    r.onerror = () => reject(r.error);
+    r.onerror = () => reject(r.error ?? new Error('IndexedDB open failed'));
   });
   try {
     const tx = db.transaction(['worksheets', 'log', 'summaries'], 'readonly');
     const get = <T>(req: IDBRequest<T>): Promise<T> =>
       new Promise((resolve, reject) => {
         req.onsuccess = () => resolve(req.result);
-        req.onerror = () => reject(req.error);
+        req.onerror = () => reject(req.error ?? new Error('IndexedDB request failed'));
       });
     const [record, log, summary] = await Promise.all([
-      get(tx.objectStore('worksheets').get(id)),
-      get(tx.objectStore('log').getAll(IDBKeyRange.bound([id, 0], [id, Infinity]))),
-      get(tx.objectStore('summaries').get(id)),
+      get<unknown>(tx.objectStore('worksheets').get(id)),
+      get<unknown[]>(tx.objectStore('log').getAll(IDBKeyRange.bound([id, 0], [id, Infinity]))),
+      get<unknown>(tx.objectStore('summaries').get(id)),
     ]);
-    return { id, record, log, summaryRev: (summary as { rev?: number } | undefined)?.rev } as StoredState;
+    return {
+      id,
+      record: record as StoredState['record'],
+      log: log as StoredState['log'],
+      summaryRev: (summary as { rev?: number } | undefined)?.rev,
+    };
   } finally {
     db.close();
   }

@@ -71,7 +71,10 @@ describe('a session while another tab keeps writing', () => {
     const ok = await session.editCells([{ rowId, key: 'note', cell: { value: 'mine' } }]);
     expect(ok).toBe(false);
     expect(store.conflicts).toBe(CONFLICT_ATTEMPTS);
-    expect(session.snapshot().save).toMatchObject({ kind: 'failed', message: expect.stringMatching(/keeps changing in another tab/) });
+    expect(session.snapshot().save).toMatchObject({
+      kind: 'failed',
+      message: expect.stringMatching(/keeps changing in another tab/) as unknown,
+    });
     expect(session.worksheet.rows[0]!.cells['note']).toEqual({ value: 'mine' });
     expect(session.snapshot().pending.get(`${rowId}:note`)).toBe('failed');
     // The other tab stops; "Try saving again" stores it on top of everything the other tab wrote.

@@ -55,7 +55,7 @@ type Row = { id: string; cells: Record<string, { value: unknown } | undefined> }
 function canonical(value: unknown): string {
   return JSON.stringify(value, (_k, v: unknown) =>
     v !== null && typeof v === 'object' && !Array.isArray(v)
-      ? Object.fromEntries(Object.entries(v as object).sort(([x], [y]) => (x < y ? -1 : 1)))
+      ? Object.fromEntries(Object.entries(v).sort(([x], [y]) => (x < y ? -1 : 1)))
       : v,
   );
 }
@@ -136,7 +136,7 @@ describe('two tabs on one notebook', () => {
     expect(after.record.rev).toBe(before.record.rev + sent.length);
     // The stored cell is the value of the last entry written for it (nothing overwritten silently).
     const last = new Map<string, unknown>();
-    for (const e of entries) last.set(`${e.rowId}`, (e.new as { value?: unknown } | null)?.value);
+    for (const e of entries) last.set(String(e.rowId), (e.new as { value?: unknown } | null)?.value);
     for (const [rowId, value] of last) expect(after.record.rows.find((r) => r.id === rowId)?.cells['note']?.value).toBe(value);
     // Both tabs end up showing what is stored.
     for (const p of [a, b]) {
@@ -214,7 +214,7 @@ describe('two tabs on one notebook', () => {
             (window as unknown as { keep: IDBDatabase }).keep = r.result;
             resolve();
           };
-          r.onerror = () => reject(r.error);
+          r.onerror = () => reject(r.error ?? new Error('IndexedDB open failed'));
         }),
       { record: toStoredWorksheet(ws), log: ws.log },
     );
@@ -255,7 +255,7 @@ describe('two tabs on one notebook', () => {
             r.result.close();
             resolve(performance.now() - t0);
           };
-          r.onerror = () => reject(r.error);
+          r.onerror = () => reject(r.error ?? new Error('IndexedDB open failed'));
         }),
     );
     expect(openedIn).toBeLessThan(5_000);

@@ -64,7 +64,7 @@ async function writeFixture(name: string, fx: Fixture): Promise<void> {
 function canonical(value: unknown): string {
   return JSON.stringify(value, (_k, v: unknown) =>
     v !== null && typeof v === 'object' && !Array.isArray(v)
-      ? Object.fromEntries(Object.entries(v as object).sort(([a], [b]) => (a < b ? -1 : 1)))
+      ? Object.fromEntries(Object.entries(v).sort(([a], [b]) => (a < b ? -1 : 1)))
       : v,
   );
 }
@@ -163,6 +163,7 @@ describe('schema upgrades in real IndexedDB', () => {
     const name = freshName();
     await writeFixture(name, fx);
     const seen: { stores: string[]; mode: string; durability: string }[] = [];
+    // eslint-disable-next-line @typescript-eslint/unbound-method -- called below with .apply on the real database
     const original = IDBDatabase.prototype.transaction;
     IDBDatabase.prototype.transaction = function (this: IDBDatabase, ...args: Parameters<IDBDatabase['transaction']>) {
       const tx = original.apply(this, args);

@@ -231,6 +231,7 @@ describe('hostile text renders as inert text', () => {
     // has no CSP, so it runs), and the canary works.
     const probe = document.createElement('div');
     grid()!.shadowRoot!.append(probe);
+    // eslint-disable-next-line no-restricted-syntax -- on purpose: proves the checks catch markup parsed as HTML
     probe.innerHTML = PAYLOADS[1]!;
     await new Promise((r) => setTimeout(r, 300));
     expect(hostileMarkup(app)).to.deep.equal(['<img> element in the DOM', 'onerror attribute on <img>']);

@@ -298,7 +298,7 @@ describe('grid keys: invariants over random input', () => {
         keyArb,
         fc.nat(),
         fc.nat(),
-        fc.constantFrom('navigate', 'edit') as fc.Arbitrary<'navigate' | 'edit'>,
+        fc.constantFrom<'navigate' | 'edit'>('navigate', 'edit'),
         fc.boolean(),
         (size, key, r, c, mode, editable) => {
           const active = { row: r % size.rows, col: c % size.cols };
