@@ -15,11 +15,15 @@
  * - row-local built-ins (`map`, `shock_index`, `pulse_pressure`, `uo_ml_kg_h`, `ne_equivalent`,
  *   `cao2`, `do2`, `o2er`, `co2_gap`, `pf_ratio`) change at row i only;
  * - running built-ins change at rows i..n−1: `fluid_total_ml`/`fluid_ml_kg` (from `fluid_ml`,
- *   summed since time zero) and `lactate_change_pct` (from `lactate`, against the first lactate);
+ *   summed since time zero) and `lactate_change_pct` (from `lactate`, against the first lactate,
+ *   so only when row i holds or comes before the first lactate; otherwise at row i only);
  * - scores read a 24 h window `(t − 24 h, t]`, so a score input at row i changes the scores of
  *   rows i..j where row j is the last row earlier than t_i + 24 h; a catecholamine (dopamine,
  *   dobutamine, epinephrine, norepinephrine) is carried forward until its next cell and must be
- *   held ≥ 1 h, so a drug edit reaches rows i..n−1;
+ *   held ≥ 1 h, so a drug edit at row i reaches the rows earlier than the drug's next charted
+ *   time + 24 h + 1 h (to the end when it is not charted again);
+ * - an edit that reaches no score input (fluids, lactate, O₂ content...) keeps the scores of the
+ *   rows it recomputes;
  * - a user column that reads a changed key at its own row changes wherever that key changed;
  *   through `prev()`, `first()` or `running_sum()` it changes at rows i..n−1; through `at_t0()`
  *   at every row. User columns read other user columns only at the same row (helpers do not
@@ -741,8 +745,20 @@ function describeGap(r: EvalResult): string {
 /** Placeholder until pass 1b fills in the scores of a row. */
 const EMPTY_SCORES = {} as RowScores;
 
-/** Recomputes rows lo..hi of `out` in place (rows outside keep their values). */
-function computeRows(ws: Worksheet, plan: ColumnPlan, options: DeriveOptions, out: RowDerivation[], lo: number, hi: number): void {
+/**
+ * Recomputes rows lo..hi of `out` in place (rows outside keep their values). With `keepScores`
+ * (the previous derivation, when the change cannot reach the scores), the scores of those rows are
+ * taken from it instead of being recomputed.
+ */
+function computeRows(
+  ws: Worksheet,
+  plan: ColumnPlan,
+  options: DeriveOptions,
+  out: RowDerivation[],
+  lo: number,
+  hi: number,
+  keepScores?: readonly RowDerivation[],
+): void {
   const p = prepare(ws);
   const rows = ws.rows;
   const value = (j: number, key: string): number | undefined => valueOfCell(rows[j]!, key) ?? out[j]?.values[key];
@@ -751,17 +767,29 @@ function computeRows(ws: Worksheet, plan: ColumnPlan, options: DeriveOptions, ou
     out[i] = { rowId: rows[i]!.id, time: rows[i]!.time, values: builtInAt(ws, p, i), scores: EMPTY_SCORES, gaps: {} };
   }
   // Pass 1b: scores, over the final built-in values (columns are built once, on first use).
-  const scoreInput = makeScoreInput(p.times, (j, key) => num(rows[j]!, key) ?? out[j]?.values[key]);
-  const scanner = new WindowScanner(scoreInput, options.windowHours ?? DEFAULT_WINDOW_HOURS);
-  for (let i = lo; i <= hi; i++) {
-    const r = out[i]!;
-    r.scores = scoresAt(scoreInput, i, options, scanner);
-    for (const [key, s] of [
-      ['sofa', r.scores.sofa],
-      ['qsofa', r.scores.qsofa],
-      ['sirs', r.scores.sirs],
-    ] as const) {
-      if (Object.keys(s.parts).length > 0) r.values[key] = s.score;
+  if (keepScores) {
+    for (let i = lo; i <= hi; i++) {
+      const r = out[i]!;
+      const kept = keepScores[i]!;
+      r.scores = kept.scores;
+      for (const key of ['sofa', 'qsofa', 'sirs']) {
+        const v = kept.values[key];
+        if (v !== undefined) r.values[key] = v;
+      }
+    }
+  } else {
+    const scoreInput = makeScoreInput(p.times, (j, key) => num(rows[j]!, key) ?? out[j]?.values[key]);
+    const scanner = new WindowScanner(scoreInput, options.windowHours ?? DEFAULT_WINDOW_HOURS);
+    for (let i = lo; i <= hi; i++) {
+      const r = out[i]!;
+      r.scores = scoresAt(scoreInput, i, options, scanner);
+      for (const [key, s] of [
+        ['sofa', r.scores.sofa],
+        ['qsofa', r.scores.qsofa],
+        ['sirs', r.scores.sirs],
+      ] as const) {
+        if (Object.keys(s.parts).length > 0) r.values[key] = s.score;
+      }
     }
   }
   if (plan.order.length === 0) return;
@@ -808,28 +836,58 @@ export function affectedRows(
   change: CellChange,
   options: DeriveOptions = {},
 ): { from: number; to: number } {
+  const { from, to } = reach(ws, plan, change, options);
+  return { from, to };
+}
+
+/** Whether a row before `i` has a number in `key`. */
+function numberBefore(ws: Worksheet, i: number, key: string): boolean {
+  for (let j = i - 1; j >= 0; j--) if (num(ws.rows[j]!, key) !== undefined) return true;
+  return false;
+}
+
+/**
+ * `affectedRows`, and whether the scores in that range can change at all (when they cannot, an
+ * update keeps them instead of recomputing them). Two reaches are narrower than "to the end":
+ * - lactate: the change from the first lactate reaches later rows only when the edited row holds,
+ *   or comes before, the first lactate; after it, a lactate edit changes its own row;
+ * - a catecholamine: the SOFA cardiovascular part at row j reads the rates charted in
+ *   `(t_j − window − hold, t_j]` and the last rate before that, which it carries forward
+ *   (scores.ts `sustainedRate`), so a rate charted at row i is read by the rows before the drug's
+ *   next charted rate plus window + hold, not by every later row.
+ */
+function reach(ws: Worksheet, plan: ColumnPlan, change: CellChange, options: DeriveOptions): { from: number; to: number; scores: boolean } {
   const n = ws.rows.length;
   const i = change.rowIndex;
   let from = i;
   let to = i;
+  let scores = false;
   const changed = new Set<string>([change.key]);
   for (const [key, dep] of Object.entries(BUILT_IN_INPUTS)) {
     if (dep.inputs.includes(change.key)) {
       changed.add(key);
-      if (dep.running) to = n - 1;
+      const local = key === 'lactate_change_pct' && numberBefore(ws, i, 'lactate');
+      if (dep.running && !local) to = n - 1;
     }
   }
-  if (SCORE_DRUG_INPUTS.includes(change.key)) {
-    to = n - 1;
-    for (const s of ['sofa', 'qsofa', 'sirs']) changed.add(s);
-  } else if (SCORE_INPUTS.some((k) => changed.has(k))) {
-    const ti = Date.parse(ws.rows[i]!.time);
-    const limit = ti + (options.windowHours ?? DEFAULT_WINDOW_HOURS) * 3_600_000;
+  /** The last row earlier than `limit` (ms), from row i on. */
+  const lastBefore = (limit: number): number => {
     let j = i;
     while (j + 1 < n && Date.parse(ws.rows[j + 1]!.time) < limit) j++;
-    to = Math.max(to, j);
-    for (const s of ['sofa', 'qsofa', 'sirs']) changed.add(s);
+    return j;
+  };
+  const windowMs = (options.windowHours ?? DEFAULT_WINDOW_HOURS) * 3_600_000;
+  if (SCORE_DRUG_INPUTS.includes(change.key)) {
+    let next = i + 1;
+    while (next < n && num(ws.rows[next]!, change.key) === undefined) next++;
+    const holdMs = (options.catecholamineMinHours ?? 1) * 3_600_000;
+    to = Math.max(to, next >= n ? n - 1 : lastBefore(Date.parse(ws.rows[next]!.time) + windowMs + holdMs));
+    scores = true;
+  } else if (SCORE_INPUTS.some((k) => changed.has(k))) {
+    to = Math.max(to, lastBefore(Date.parse(ws.rows[i]!.time) + windowMs));
+    scores = true;
   }
+  if (scores) for (const s of ['sofa', 'qsofa', 'sirs']) changed.add(s);
   for (const c of plan.order) {
     const f = c.formula;
     let hit = [...f.rowKeys].some((k) => changed.has(k));
@@ -841,7 +899,7 @@ export function affectedRows(
     }
     if (hit) changed.add(c.column.key);
   }
-  return { from, to };
+  return { from, to, scores };
 }
 
 /**
@@ -853,9 +911,9 @@ export function updateDerived(prev: Derivation, ws: Worksheet, change: CellChang
   const n = ws.rows.length;
   const sameRows = prev.rowIds.length === n && ws.rows.every((r, k) => r.id === prev.rowIds[k] && r.time === prev.rowTimes[k]);
   if (!sameRows || prev.basis !== basisOf(ws, options) || change.rowIndex < 0 || change.rowIndex >= n) return deriveAll(ws, options);
-  const { from, to } = affectedRows(ws, prev.plan, change, options);
+  const { from, to, scores } = reach(ws, prev.plan, change, options);
   const rows = prev.rows.slice();
-  computeRows(ws, prev.plan, options, rows, from, to);
+  computeRows(ws, prev.plan, options, rows, from, to, scores ? undefined : prev.rows);
   return { ...prev, rows };
 }
 

@@ -112,6 +112,43 @@ describe('rederive', () => {
     }, 120_000);
   }
 
+  it('matches a full recompute for catecholamine and lactate edits, whose reach is bounded (derived.ts header)', () => {
+    // Dense drug charting with gaps around the window and hold, so edits land before, inside and
+    // after other rates; clears make a rate carry further.
+    const drugs = ['norepinephrine', 'dopamine', 'dobutamine', 'epinephrine', 'lactate'] as const;
+    const valueArb = fc.constantFrom(0, 0.05, 0.2, 5, 16);
+    const denseArb = fc
+      .record({
+        gaps: fc.array(fc.integer({ min: 0, max: 10 * 60 }), { minLength: 2, maxLength: 24 }),
+        cells: fc.array(fc.dictionary(fc.constantFrom(...drugs), valueArb, { maxKeys: 3 }), { minLength: 24, maxLength: 24 }),
+      })
+      .map(({ gaps, cells }) => {
+        let t = 0;
+        const rows: RowInput[] = gaps.map((g, k) => {
+          t += g;
+          return { min: t, cells: { map: 60, ...cells[k]! } };
+        });
+        return worksheet({ rows, weightKg: 70, timeZeroMin: 0 });
+      });
+    const drugEdit = fc.record({ row: fc.nat(), key: fc.constantFrom(...drugs), clear: fc.boolean(), value: valueArb });
+    for (const options of [{}, { windowHours: 6, catecholamineMinHours: 2 }] as DeriveOptions[]) {
+      fc.assert(
+        fc.property(denseArb, fc.array(drugEdit, { minLength: 1, maxLength: 8 }), (ws0, edits) => {
+          let ws = ws0;
+          let d = deriveAll(ws, options);
+          for (const e of edits) {
+            const rowId = ws.rows[e.row % ws.rows.length]!.id;
+            const next = setCells(ctx, ws, [{ rowId, key: e.key, cell: e.clear ? null : { value: e.value } }]).worksheet;
+            d = rederive(d, ws, next, options);
+            ws = next;
+            expect(d.rows).toEqual(deriveAll(ws, options).rows);
+          }
+        }),
+        { numRuns: 150 },
+      );
+    }
+  }, 120_000);
+
   it('names exactly the cells whose value changed, and gives up when rows change', () => {
     const ws = worksheet({
       rows: [
