@@ -149,6 +149,12 @@ export async function serveAgain(built: ServedApp): Promise<ServedApp> {
   };
 }
 
+/** Browsers started here and still running: killed when the test process exits, whatever happened. */
+const live = new Set<ChildProcess>();
+process.on('exit', () => {
+  for (const proc of live) if (proc.exitCode === null) proc.kill('SIGKILL');
+});
+
 /** A Chromium process with an on-disk profile, which the test may kill and start again. */
 export class Chromium {
   private proc?: ChildProcess;
@@ -174,6 +180,8 @@ export class Chromium {
       stdio: ['ignore', 'ignore', 'pipe'],
     });
     this.proc = proc;
+    live.add(proc);
+    proc.once('exit', () => live.delete(proc));
     const stderr = proc.stderr;
     const endpoint = await new Promise<string>((resolve, reject) => {
       let err = '';
