@@ -258,9 +258,13 @@ export async function waitForApp(page: Page, timeout = 60_000): Promise<void> {
   );
 }
 
-/** Writes the figures of a run to tests/reliability/results/<name>.json (quoted by the README). */
+/**
+ * Writes the figures of a run to .tmp/reliability-results/<name>.json; with RECORD_FIGURES=1 to
+ * tests/reliability/results/<name>.json, the committed record the README quotes (so an ordinary
+ * test run leaves the working tree clean).
+ */
 export function writeFigures(name: string, figures: Record<string, unknown>): void {
-  const dir = join(root, 'tests/reliability/results');
+  const dir = join(root, process.env['RECORD_FIGURES'] === '1' ? 'tests/reliability/results' : '.tmp/reliability-results');
   mkdirSync(dir, { recursive: true });
   writeFileSync(join(dir, `${name}.json`), `${JSON.stringify({ ...figures, recordedBy: `tests/reliability/${name}.test.ts` }, null, 2)}\n`);
 }
