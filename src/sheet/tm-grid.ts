@@ -174,6 +174,7 @@ export class TmGrid extends LitElement {
   private view = { top: 0, height: 0, head: 0 };
   /** The window and row count the row height was last measured for. */
   private measuredFor = '';
+  private layoutPending = false;
   /** A row to bring into view once it is rendered (a highlighted row far from the viewport). */
   private revealRowId: string | null = null;
   private scrollerEl: HTMLElement | null = null;
@@ -268,14 +269,41 @@ export class TmGrid extends LitElement {
     return out;
   }
 
-  /** Sizes the spacer rows (through the CSSOM: the CSP allows no style attributes) and learns the row height. */
-  private layoutSpacers(): void {
-    const body = this.renderRoot.querySelector('tbody');
-    if (!body) return;
+  /** Sizes the spacer rows (through the CSSOM: the CSP allows no style attributes); writes only. */
+  private sizeGaps(): void {
+    for (const gap of this.renderRoot.querySelectorAll<HTMLElement>('tbody tr.gap')) {
+      const height = `${Number(gap.dataset['rows'] ?? 0) * this.rowPx}px`;
+      if (gap.style.height !== height) gap.style.height = height;
+    }
+  }
+
+  /**
+   * Work that reads layout (scrolling to the newest row, measuring the row height, the scroller's
+   * size) runs once per frame in requestAnimationFrame, after every element of the page has
+   * rendered: done in `updated` it would force a layout of a page still being rendered, and
+   * another one for the frame.
+   */
+  private scheduleLayoutWork(): void {
+    if (this.layoutPending) return;
+    this.layoutPending = true;
+    requestAnimationFrame(() => {
+      this.layoutPending = false;
+      this.layoutWork();
+    });
+  }
+
+  private layoutWork(): void {
+    const s = this.scrollerEl;
+    if (!s || !this.isConnected) return;
+    if (this.scrollToEnd && this.rows.length > 0) {
+      this.scrollToEnd = false;
+      s.scrollTop = s.scrollHeight;
+    }
+    if (!this.virtual()) return;
     const key = `${this.windowFirst}:${this.windowLast}:${this.rows.length}`;
-    if (this.virtual() && key !== this.measuredFor) {
+    if (key !== this.measuredFor) {
       this.measuredFor = key;
-      const heights = [...body.querySelectorAll<HTMLElement>('tr[role="row"]')]
+      const heights = [...this.renderRoot.querySelectorAll<HTMLElement>('tbody tr[role="row"]')]
         .slice(0, 24)
         .map((r) => r.offsetHeight)
         .filter((h) => h > 0)
@@ -283,14 +311,12 @@ export class TmGrid extends LitElement {
       const median = heights[Math.floor(heights.length / 2)];
       if (median !== undefined && Math.abs(median - this.rowPx) >= 0.5) {
         this.rowPx = median;
-        const [first, last] = this.windowAround();
-        if (first !== this.windowFirst || last !== this.windowLast) this.requestUpdate();
+        this.sizeGaps();
       }
     }
-    for (const gap of body.querySelectorAll<HTMLElement>('tr.gap')) {
-      const height = `${Number(gap.dataset['rows'] ?? 0) * this.rowPx}px`;
-      if (gap.style.height !== height) gap.style.height = height;
-    }
+    this.readView();
+    const [first, last] = this.windowAround();
+    if (first !== this.windowFirst || last !== this.windowLast) this.requestUpdate();
   }
 
   /** Brings a row into view, rendering it first when the worksheet is virtualised. */
@@ -432,14 +458,8 @@ export class TmGrid extends LitElement {
       }
       this.scrollerEl = scroller;
     }
-    this.layoutSpacers();
-    if (this.scrollToEnd && this.rows.length > 0 && this.scroller) {
-      this.scrollToEnd = false;
-      this.scroller.scrollTop = this.scroller.scrollHeight;
-      if (this.virtual()) this.readView();
-    } else if (this.virtual() && this.view.height === 0) {
-      this.readView();
-    }
+    this.sizeGaps();
+    if (this.virtual() || (this.scrollToEnd && this.rows.length > 0)) this.scheduleLayoutWork();
     if (this.focusAfterUpdate) {
       this.focusAfterUpdate = false;
       this.focusActive();
