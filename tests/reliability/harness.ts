@@ -64,7 +64,13 @@ function buildInputs(): string[] {
       const path = join(dir, name);
       return statSync(path).isDirectory() ? walk(path) : [path];
     });
-  return [...walk(join(root, 'src')), join(root, 'index.html'), join(root, 'scripts/build.mjs'), join(root, 'scripts/zod-locales-en.js'), join(root, 'package-lock.json')]
+  return [
+    ...walk(join(root, 'src')),
+    join(root, 'index.html'),
+    join(root, 'scripts/build.mjs'),
+    join(root, 'scripts/zod-locales-en.js'),
+    join(root, 'package-lock.json'),
+  ]
     .filter((p) => existsSync(p))
     .sort();
 }
