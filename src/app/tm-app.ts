@@ -55,6 +55,9 @@ const BASIS_WORDS: Record<string, string> = {
   other: 'other',
 };
 
+/** Trends are open when a worksheet with at most this many rows is opened. */
+const TRENDS_OPEN_UP_TO_ROWS = 300;
+
 type Panel = 'none' | 'facts' | 'exports' | 'columns' | 'own-goals';
 
 /** An event from tm-grid, typed by its name. */
@@ -403,6 +406,9 @@ export class TmApp extends LitElement {
     if (!ws) return;
     this.unsubscribe?.();
     this.session = new WorksheetSession(ws, this.store, this.clock);
+    // The trends redraw on every edit; on a long worksheet they start closed so typing stays quick
+    // (README, Performance). The Trends button opens them.
+    this.showTrends = ws.rows.length <= TRENDS_OPEN_UP_TO_ROWS;
     this.unsubscribe = this.session.subscribe((s) => {
       this.snap = s;
       // A row entered "now" must count at once, not at the next tick.
