@@ -13,8 +13,9 @@
  *    commits a typed value to the first frame painted after the app has put it in its view,
  *    recomputed derived values and goal statuses and re-rendered (requestAnimationFrame, then a
  *    message posted from it, which runs once that frame is painted). Cells edited are spread over
- *    the whole worksheet (./plan.ts). Half the edits with the screen as it opens (grid, goal panel
- *    and the trends panel under the grid), half with the trends panel closed.
+ *    the whole worksheet (./plan.ts). Half the edits with the trends panel under the grid open,
+ *    half with it closed; the targets are judged on the screen as the app opens the worksheet
+ *    (trends open up to 300 rows, closed above).
  * 4. IndexedDB commit latency: `store.commit` of one-cell edits (validation, one readwrite
  *    transaction, `tx.done`) at each size, in the browser (./page.ts).
  * 5. Cold load: a new browser process on a profile whose notebook holds 200 worksheets of 100
@@ -254,17 +255,27 @@ async function focusCell(page: Page, rowIndex: number, key: string): Promise<boo
   );
 }
 
-/** Closes the trends panel under the grid (its toggle in the worksheet header). */
-async function hideTrends(page: Page): Promise<void> {
-  const hidden = await page.evaluate(() => {
+/** Whether the trends panel under the grid is open (its toggle in the worksheet header). */
+async function trendsOpen(page: Page): Promise<boolean> {
+  return page.evaluate(() => {
     const root = (document.querySelector('tm-app') as AppRoot).shadowRoot;
     const b = [...root.querySelectorAll('button')].find((x) => x.textContent?.trim() === 'Trends');
-    if (!b || b.getAttribute('aria-pressed') !== 'true') return false;
-    b.click();
-    return true;
+    if (!b) throw new Error('no Trends toggle');
+    return b.getAttribute('aria-pressed') === 'true';
   });
-  if (!hidden) throw new Error('no open Trends panel to close');
-  await page.waitForFunction(() => !(document.querySelector('tm-app') as AppRoot).shadowRoot.querySelector('tm-trends'));
+}
+
+/** Opens or closes the trends panel with its toggle. */
+async function setTrends(page: Page, open: boolean): Promise<void> {
+  if ((await trendsOpen(page)) === open) return;
+  await page.evaluate(() => {
+    const root = (document.querySelector('tm-app') as AppRoot).shadowRoot;
+    [...root.querySelectorAll('button')].find((x) => x.textContent?.trim() === 'Trends')?.click();
+  });
+  await page.waitForFunction(
+    (open) => Boolean((document.querySelector('tm-app') as AppRoot).shadowRoot.querySelector('tm-trends')) === open,
+    open,
+  );
 }
 
 async function measureEdits(page: Page, plan: readonly PlannedEdit[], warmup: number): Promise<number[]> {
@@ -310,7 +321,11 @@ async function measureEdits(page: Page, plan: readonly PlannedEdit[], warmup: nu
 
 interface BrowserSize {
   rows: number;
+  /** Edit to paint on the screen as the app opens this worksheet (trends open up to 300 rows). */
   edit: Stats;
+  /** Whether the trends panel was open as the worksheet opened. */
+  trendsOpenAtStart: boolean;
+  editTrendsOpen: Stats;
   editTrendsClosed: Stats;
   commit: Stats;
 }
@@ -334,11 +349,21 @@ async function editToPaint(
     await page.goto(base);
     await page.waitForFunction(appReady, null, { timeout: 180_000 });
     const half = Math.floor(plan.length / 2);
-    // The screen as it opens (grid, goal panel, trends under the grid), then with the trends closed.
-    const withTrends = await measureEdits(page, plan.slice(0, half), warmup);
-    await hideTrends(page);
-    const trendsClosed = await measureEdits(page, plan.slice(half), warmup);
-    return { rows, edit: stats(withTrends), editTrendsClosed: stats(trendsClosed), commit: stats(commitTimes) };
+    // Half the edits with the trends panel under the grid open, half with it closed; the app opens
+    // long worksheets with it closed, and that is the screen the targets are judged on.
+    const trendsOpenAtStart = await trendsOpen(page);
+    await setTrends(page, true);
+    const open = stats(await measureEdits(page, plan.slice(0, half), warmup));
+    await setTrends(page, false);
+    const closed = stats(await measureEdits(page, plan.slice(half), warmup));
+    return {
+      rows,
+      edit: trendsOpenAtStart ? open : closed,
+      trendsOpenAtStart,
+      editTrendsOpen: open,
+      editTrendsClosed: closed,
+      commit: stats(commitTimes),
+    };
   } finally {
     await context.close();
     await rm(userDir, { recursive: true, force: true });
@@ -440,7 +465,7 @@ export async function runBench(tools: BenchTools): Promise<void> {
       say(`Browser: ${rows} rows, ${2 * count} edits to paint...`);
       const r = await editToPaint(executablePath, base, rows, editPlan(rows, 2 * (count + warmup)), warmup, quick ? 15 : 60);
       say(
-        `  edit to paint p50 ${ms(r.edit.p50)} / p95 ${ms(r.edit.p95)} ms (trends closed: ${ms(r.editTrendsClosed.p50)} / ${ms(r.editTrendsClosed.p95)} ms); IndexedDB commit p50 ${ms(r.commit.p50)} / p95 ${ms(r.commit.p95)} ms`,
+        `  edit to paint, trends open p50 ${ms(r.editTrendsOpen.p50)} / p95 ${ms(r.editTrendsOpen.p95)} ms, closed ${ms(r.editTrendsClosed.p50)} / ${ms(r.editTrendsClosed.p95)} ms (opens ${r.trendsOpenAtStart ? 'open' : 'closed'}); IndexedDB commit p50 ${ms(r.commit.p50)} / p95 ${ms(r.commit.p95)} ms`,
       );
       browser.push(r);
     }
@@ -514,8 +539,9 @@ export async function runBench(tools: BenchTools): Promise<void> {
     const cell = (text: string) => text.padStart(14);
     say(`${'Measure'.padEnd(46)}${cell('50 rows')}${cell('500 rows')}${cell('5,000 rows')}`);
     const row = (label: string, f: (n: number) => string) => say(`${label.padEnd(46)}${SIZES.map((n) => cell(f(n))).join('')}`);
-    row('Edit to paint, p50 / p95 (ms)', (n) => `${ms(b(n).edit.p50)} / ${ms(b(n).edit.p95)}`);
-    row('  same, trends panel closed (ms)', (n) => `${ms(b(n).editTrendsClosed.p50)} / ${ms(b(n).editTrendsClosed.p95)}`);
+    row('Edit to paint, screen as opened, p50 / p95', (n) => `${ms(b(n).edit.p50)} / ${ms(b(n).edit.p95)}`);
+    row('  trends panel open (ms)', (n) => `${ms(b(n).editTrendsOpen.p50)} / ${ms(b(n).editTrendsOpen.p95)}`);
+    row('  trends panel closed (ms)', (n) => `${ms(b(n).editTrendsClosed.p50)} / ${ms(b(n).editTrendsClosed.p95)}`);
     row('Core recompute per edit, p50 / p95 (ms)', (n) => `${ms(c(n).incremental.p50)} / ${ms(c(n).incremental.p95)}`);
     row('Naive full recompute, p50 / p95 (ms)', (n) => `${ms(c(n).naive.p50)} / ${ms(c(n).naive.p95)}`);
     row('Speed-up, naive ÷ core (medians)', (n) => `${c(n).speedup.toFixed(1)}×`);
