@@ -21,7 +21,7 @@ export const PAYLOADS: readonly string[] = [
   "{{constructor.constructor('__xss(14)')()}}",
   '<style>@import "javascript:__xss(15)";</style>',
   '<input autofocus onfocus=__xss(16)>',
-  '<video><source onerror=__xss(17)></video>',
+  '<audio><source onerror=__xss(17)></audio>',
   '<object data="javascript:__xss(18)"></object>',
   '<embed src="javascript:__xss(19)">',
   '<form><button formaction=javascript:__xss(20)>go</button></form>',

@@ -70,7 +70,6 @@ const FOREIGN_TAGS = new Set([
   'object',
   'embed',
   'marquee',
-  'video',
   'audio',
   'source',
   'mglyph',
