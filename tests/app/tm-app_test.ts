@@ -13,6 +13,7 @@ import type { GoalStatus } from '../../src/goals/status.js';
 import { FixedClock } from '../../src/sheet/clock.js';
 import { addRow, createWorksheet, setFacts } from '../../src/sheet/worksheet.js';
 import { openStore, type Store } from '../../src/storage/store.js';
+import { loadAxe } from '../helpers/axe.js';
 
 const T0 = Date.parse('2026-03-01T08:00:00Z');
 let stores: Store[] = [];
@@ -187,27 +188,6 @@ describe('tm-app: goals on fake time', () => {
     expect(goal(app, 'ssc-hour1.lactate-repeat')?.status).to.equal('not-applicable');
   });
 });
-
-interface AxeResult {
-  violations: { id: string; impact: string | null; nodes: { target: unknown }[] }[];
-}
-interface AxeLike {
-  run(context: Element, options: object): Promise<AxeResult>;
-}
-
-async function loadAxe(): Promise<AxeLike> {
-  const w = window as unknown as { axe?: AxeLike };
-  if (!w.axe) {
-    await new Promise<void>((resolve, reject) => {
-      const s = document.createElement('script');
-      s.src = '/node_modules/axe-core/axe.min.js';
-      s.onload = () => resolve();
-      s.onerror = () => reject(new Error('axe-core did not load'));
-      document.head.append(s);
-    });
-  }
-  return w.axe!;
-}
 
 describe('tm-app: accessibility of the main screen', () => {
   it('has no serious or critical axe-core violation with the demo worksheet open', async () => {

@@ -8,6 +8,7 @@ import '../../src/goals/tm-custom-goals.js';
 import type { CustomGoalsEvent, TmCustomGoals } from '../../src/goals/tm-custom-goals.js';
 import type { Worksheet } from '../../src/sheet/model.js';
 import { editorsWorksheet, FIX_NOW, FIX_ROWS } from '../sheet/formula-editors-fixture.js';
+import { loadAxe } from '../helpers/axe.js';
 
 const mounted: HTMLElement[] = [];
 afterEach(() => {
@@ -203,27 +204,6 @@ describe('tm-custom-goals: saving', () => {
     expect(events.map((e) => e.goals)).to.deep.equal([[{ id: 'map-65', label: 'MAP 65', target: 'map >= 65' }]]);
   });
 });
-
-interface AxeResult {
-  violations: { id: string; impact: string | null; nodes: { target: unknown }[] }[];
-}
-interface AxeLike {
-  run(context: Element, options: object): Promise<AxeResult>;
-}
-
-async function loadAxe(): Promise<AxeLike> {
-  const w = window as unknown as { axe?: AxeLike };
-  if (!w.axe) {
-    await new Promise<void>((resolve, reject) => {
-      const s = document.createElement('script');
-      s.src = '/node_modules/axe-core/axe.min.js';
-      s.onload = () => resolve();
-      s.onerror = () => reject(new Error('axe-core did not load'));
-      document.head.append(s);
-    });
-  }
-  return w.axe!;
-}
 
 describe('tm-custom-goals: accessibility', () => {
   it('has no serious or critical axe-core violation with an evaluation, an error and the names list open', async () => {

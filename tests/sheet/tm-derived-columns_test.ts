@@ -7,6 +7,7 @@ import '../../src/sheet/tm-derived-columns.js';
 import type { DerivedColumnsEvent, TmDerivedColumns } from '../../src/sheet/tm-derived-columns.js';
 import type { Worksheet } from '../../src/sheet/model.js';
 import { editorsWorksheet, FIX_NOW, FIX_ROWS } from './formula-editors-fixture.js';
+import { loadAxe } from '../helpers/axe.js';
 
 const mounted: HTMLElement[] = [];
 afterEach(() => {
@@ -218,27 +219,6 @@ describe('tm-derived-columns: list and keyboard', () => {
     }
   });
 });
-
-interface AxeResult {
-  violations: { id: string; impact: string | null; nodes: { target: unknown }[] }[];
-}
-interface AxeLike {
-  run(context: Element, options: object): Promise<AxeResult>;
-}
-
-async function loadAxe(): Promise<AxeLike> {
-  const w = window as unknown as { axe?: AxeLike };
-  if (!w.axe) {
-    await new Promise<void>((resolve, reject) => {
-      const s = document.createElement('script');
-      s.src = '/node_modules/axe-core/axe.min.js';
-      s.onload = () => resolve();
-      s.onerror = () => reject(new Error('axe-core did not load'));
-      document.head.append(s);
-    });
-  }
-  return w.axe!;
-}
 
 describe('tm-derived-columns: accessibility', () => {
   it('has no serious or critical axe-core violation with a preview, an error and the names list open', async () => {
